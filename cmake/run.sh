@@ -1,0 +1,47 @@
+#!/bin/sh
+# SPDX-License-Identifier: MIT
+# The README's quick start. `cmake/run.sh demo` runs the main program, `cmake/run.sh test`
+# runs the whole test suite. Each first installs the Debian packages it lacks (as root).
+set -eu
+cd "$(dirname "$0")/.."
+
+# Packages the demo needs, then the extra ones the full test suite needs.
+demo_packages="g++ cmake ninja-build doctest-dev libbenchmark-dev gnuplot-nox"
+test_packages="$demo_packages clang libmpfr-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm"
+
+install_missing() {
+  missing=""
+  for p in "$@"; do
+    dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "ok installed" || missing="$missing $p"
+  done
+  [ -z "$missing" ] && return 0
+  echo "dqfx: installing Debian packages:$missing"
+  if [ "$(id -u)" -ne 0 ]; then
+    echo "dqfx: run as root (or install them yourself):$missing" >&2
+    exit 1
+  fi
+  export DEBIAN_FRONTEND=noninteractive
+  apt-get update -qq
+  # shellcheck disable=SC2086
+  apt-get install -y -qq --no-install-recommends $missing >/dev/null
+}
+
+case "${1:-}" in
+  demo)
+    install_missing $demo_packages
+    cmake --preset host >/dev/null
+    cmake --build --preset host --target dqfx_demo
+    ./build/host/examples/dqfx_demo
+    ;;
+  test)
+    install_missing $test_packages
+    for workflow in host host-clang sanitize; do
+      echo "dqfx: workflow $workflow"
+      cmake --workflow --preset "$workflow"
+    done
+    ;;
+  *)
+    echo "usage: $0 demo|test" >&2
+    exit 2
+    ;;
+esac

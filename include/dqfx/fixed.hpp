@@ -1,0 +1,126 @@
+// SPDX-License-Identifier: MIT
+#pragma once
+/// \file
+/// Signed fixed-point fractions q15 and q31: range [-1, 1), saturating arithmetic,
+/// round-to-nearest products formed in a wide accumulator. Every operation is defined
+/// for every raw input, the most negative one included.
+
+#include <cstdint>
+#include <limits>
+#include <type_traits>
+
+#include "dqfx/saturation.hpp"
+
+namespace dqfx {
+
+namespace detail {
+
+// Arithmetic (sign-propagating) right shift of a negative value is implementation-
+// defined before C++20. Every compiler dqfx supports does it arithmetically; pin it
+// here so a compiler that does not cannot build dqfx at all.
+static_assert((-5 >> 1) == -3 && (std::int64_t{-5} >> 1) == -3,
+              "dqfx needs arithmetic right shift of negative integers");
+
+template <class Raw> struct wide_of;
+template <> struct wide_of<std::int16_t> { using type = std::int32_t; };
+template <> struct wide_of<std::int32_t> { using type = std::int64_t; };
+
+/// Clamp a wide value into Raw's range, reporting a saturation event if it clamps.
+template <class Raw, class Wide>
+constexpr Raw saturate_to(Wide v) noexcept {
+  constexpr Wide hi = std::numeric_limits<Raw>::max();
+  constexpr Wide lo = std::numeric_limits<Raw>::min();
+  if (v > hi) { note_saturation(); return static_cast<Raw>(hi); }
+  if (v < lo) { note_saturation(); return static_cast<Raw>(lo); }
+  return static_cast<Raw>(v);
+}
+
+/// floor((v + 2^(shift-1)) / 2^shift) without the overflow of adding first.
+template <class Wide>
+constexpr Wide round_shift(Wide v, int shift) noexcept {
+  return ((v >> (shift - 1)) + 1) >> 1;
+}
+
+/// Saturating addition of two wide values (for accumulators).
+template <class Wide>
+constexpr Wide saturating_add(Wide a, Wide b) noexcept {
+  Wide r{};
+  if (__builtin_add_overflow(a, b, &r)) {
+    note_saturation();
+    return a < 0 ? std::numeric_limits<Wide>::min() : std::numeric_limits<Wide>::max();
+  }
+  return r;
+}
+
+}  // namespace detail
+
+/// A signed fraction with sizeof(Raw)*8-1 fraction bits: value = raw / 2^fraction_bits.
+template <class Raw>
+class fixed {
+  static_assert(std::is_same_v<Raw, std::int16_t> || std::is_same_v<Raw, std::int32_t>,
+                "dqfx::fixed supports 16-bit (q15) and 32-bit (q31) storage");
+
+ public:
+  using raw_type = Raw;
+  /// Accumulator type: twice the width, holds a product exactly (q15: 32-bit, q31: 64-bit).
+  using wide_type = typename detail::wide_of<Raw>::type;
+  static constexpr int fraction_bits = std::numeric_limits<Raw>::digits;
+
+  constexpr fixed() noexcept = default;
+
+  static constexpr fixed from_raw(Raw r) noexcept { return fixed{r, tag{}}; }
+  /// Saturates a wider integer holding a value at this format's scale.
+  template <class Int>
+  static constexpr fixed saturated(Int w) noexcept {
+    static_assert(std::is_integral_v<Int> && std::is_signed_v<Int>, "a signed integer");
+    return from_raw(detail::saturate_to<Raw>(w));
+  }
+  constexpr Raw raw() const noexcept { return raw_; }
+
+  static constexpr fixed max() noexcept { return from_raw(std::numeric_limits<Raw>::max()); }
+  static constexpr fixed lowest() noexcept { return from_raw(std::numeric_limits<Raw>::min()); }
+
+  friend constexpr fixed operator+(fixed a, fixed b) noexcept {
+    return saturated(wide_type{a.raw_} + wide_type{b.raw_});
+  }
+  friend constexpr fixed operator-(fixed a, fixed b) noexcept {
+    return saturated(wide_type{a.raw_} - wide_type{b.raw_});
+  }
+  friend constexpr fixed operator-(fixed a) noexcept { return saturated(-wide_type{a.raw_}); }
+  /// Product rounded to nearest (ties toward +infinity); (-1)*(-1) saturates to max().
+  friend constexpr fixed operator*(fixed a, fixed b) noexcept {
+    return saturated(detail::round_shift(wide_type{a.raw_} * wide_type{b.raw_}, fraction_bits));
+  }
+  constexpr fixed& operator+=(fixed b) noexcept { return *this = *this + b; }
+  constexpr fixed& operator-=(fixed b) noexcept { return *this = *this - b; }
+  constexpr fixed& operator*=(fixed b) noexcept { return *this = *this * b; }
+
+  friend constexpr bool operator==(fixed a, fixed b) noexcept { return a.raw_ == b.raw_; }
+  friend constexpr bool operator!=(fixed a, fixed b) noexcept { return a.raw_ != b.raw_; }
+  friend constexpr bool operator<(fixed a, fixed b) noexcept { return a.raw_ < b.raw_; }
+  friend constexpr bool operator<=(fixed a, fixed b) noexcept { return a.raw_ <= b.raw_; }
+  friend constexpr bool operator>(fixed a, fixed b) noexcept { return a.raw_ > b.raw_; }
+  friend constexpr bool operator>=(fixed a, fixed b) noexcept { return a.raw_ >= b.raw_; }
+
+ private:
+  struct tag {};
+  constexpr fixed(Raw r, tag) noexcept : raw_{r} {}
+  Raw raw_{0};
+};
+
+/// 1 sign bit + 15 fraction bits.
+using q15 = fixed<std::int16_t>;
+/// 1 sign bit + 31 fraction bits.
+using q31 = fixed<std::int32_t>;
+
+template <class T> struct is_fixed : std::false_type {};
+template <class Raw> struct is_fixed<fixed<Raw>> : std::true_type {};
+template <class T> inline constexpr bool is_fixed_v = is_fixed<T>::value;
+
+/// |a|, saturating: abs(lowest()) is max().
+template <class Raw>
+constexpr fixed<Raw> abs(fixed<Raw> a) noexcept {
+  return a.raw() < 0 ? -a : a;
+}
+
+}  // namespace dqfx
