@@ -51,9 +51,15 @@ template <class T> inline constexpr bool is_number_v = is_number<T>::value;
 
 namespace detail {
 
-/// floor(x + 0.5) away from zero for |x| below 2^62, usable in constant expressions.
+/// x rounded to nearest, ties away from zero, for |x| below 2^62; usable in constant
+/// expressions. The fraction is split off exactly first: adding 0.5 to x itself would
+/// round 0.49999999999999994 up to 1.
 constexpr std::int64_t round_half_away(double x) noexcept {
-  return x < 0 ? -static_cast<std::int64_t>(-x + 0.5) : static_cast<std::int64_t>(x + 0.5);
+  const auto whole = static_cast<std::int64_t>(x);  // toward zero
+  const double fraction = x - static_cast<double>(whole);  // exact
+  if (fraction >= 0.5) return whole + 1;
+  if (fraction <= -0.5) return whole - 1;
+  return whole;
 }
 
 constexpr bool is_nan(double x) noexcept { return x != x; }
