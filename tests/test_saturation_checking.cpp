@@ -30,8 +30,8 @@ std::uint64_t events_during(F&& f) {
   return dqfx::saturation_events();
 }
 
-constexpr double nan = std::numeric_limits<double>::quiet_NaN();
-constexpr double inf = std::numeric_limits<double>::infinity();
+constexpr double nan_value = std::numeric_limits<double>::quiet_NaN();
+constexpr double inf_value = std::numeric_limits<double>::infinity();
 
 // Keeps results alive so the operations are really performed.
 template <class T> void keep(T v) { asm volatile("" : : "g"(&v) : "memory"); }
@@ -60,14 +60,14 @@ TEST_CASE_TEMPLATE("checked build: each fixed-point clamp is one event", T, q15,
   CHECK(events_during([&] { keep(half * forty); }) == 1);
   CHECK(events_during([&] { keep(-half * forty); }) == 1);
   CHECK(events_during([&] { keep(dqfx::gain<T>::from_double(1e12)); }) == 1);
-  CHECK(events_during([&] { keep(dqfx::gain<T>::from_double(nan)); }) == 1);
+  CHECK(events_during([&] { keep(dqfx::gain<T>::from_double(nan_value)); }) == 1);
 
   // from_double: out of range either way, infinities, NaN.
   CHECK(events_during([&] { keep(dqfx::from_double<T>(1.0)); }) == 1);
   CHECK(events_during([&] { keep(dqfx::from_double<T>(-1.5)); }) == 1);
   CHECK(events_during([&] { keep(dqfx::from_double<T>(1e300)); }) == 1);
-  CHECK(events_during([&] { keep(dqfx::from_double<T>(-inf)); }) == 1);
-  CHECK(events_during([&] { keep(dqfx::from_double<T>(nan)); }) == 1);
+  CHECK(events_during([&] { keep(dqfx::from_double<T>(-inf_value)); }) == 1);
+  CHECK(events_during([&] { keep(dqfx::from_double<T>(nan_value)); }) == 1);
 
   // Accumulator: a result beyond the range is one event; the corner (-1)(-1)+(-1)(-1),
   // whose wide sum also reaches its own limit, is reported (wide clamp and final clamp).
@@ -84,9 +84,9 @@ TEST_CASE_TEMPLATE("checked build: each fixed-point clamp is one event", T, q15,
 TEST_CASE("checked build: float and double conversions count their clamps") {
   CHECK(events_during([] { keep(dqfx::from_double<float>(1e300)); }) == 1);
   CHECK(events_during([] { keep(dqfx::from_double<float>(-1e300)); }) == 1);
-  CHECK(events_during([] { keep(dqfx::from_double<float>(nan)); }) == 1);
-  CHECK(events_during([] { keep(dqfx::from_double<double>(nan)); }) == 1);
-  CHECK(events_during([] { keep(dqfx::from_double<double>(inf)); }) == 1);
+  CHECK(events_during([] { keep(dqfx::from_double<float>(nan_value)); }) == 1);
+  CHECK(events_during([] { keep(dqfx::from_double<double>(nan_value)); }) == 1);
+  CHECK(events_during([] { keep(dqfx::from_double<double>(inf_value)); }) == 1);
   CHECK(events_during([] { keep(dqfx::from_double<float>(0.1)); }) == 0);
   CHECK(events_during([] { keep(dqfx::from_double<double>(-1e300)); }) == 0);
 }
