@@ -1,0 +1,249 @@
+// SPDX-License-Identifier: MIT
+#pragma once
+/// \file
+/// The kernels the Cortex-M harness times, and their inputs. To add a kernel, write a
+/// struct like `multiply` below and list it in `timed_kernels` at the end: it is then
+/// timed on every core, sized, and (for q15/q31) checked bit for bit against the host.
+///
+/// A kernel struct has
+///   - `name`: how the report shows it,
+///   - `types`: the number types it runs for,
+///   - `input<T>`, `output<T>`: plain structs (at most `max_record` bytes),
+///   - `make<T>(random_bits&)`: one input, drawn from the shared generator,
+///   - `run<T>(const input<T>&)`: the call being timed, inlined into its wrapper.
+
+#include <cstddef>
+#include <cstdint>
+#include <new>
+#include <type_traits>
+
+#include "dqfx/angle.hpp"
+#include "dqfx/frames.hpp"
+#include "dqfx/number.hpp"
+#include "textbook.hpp"
+
+#if defined(__GNUC__) && !defined(__clang__)
+// Neither inlined nor analysed across calls: the caller cannot see what the wrapper does.
+#define DQFX_TARGET_OPAQUE __attribute__((noipa))
+#else
+#define DQFX_TARGET_OPAQUE __attribute__((noinline))
+#endif
+
+namespace dqfx_target {
+
+using dqfx::q15;
+using dqfx::q31;
+
+template <class... T> struct type_list {};
+using all_types = type_list<q15, q31, float, double>;
+
+/// Marsaglia's xorshift32 (G. Marsaglia, "Xorshift RNGs", Journal of Statistical
+/// Software 8(14), 2003): the same sequence on every platform.
+class random_bits {
+ public:
+  explicit constexpr random_bits(std::uint32_t seed) noexcept : state_{seed} {}
+  constexpr std::uint32_t next() noexcept {
+    state_ ^= state_ << 13;
+    state_ ^= state_ >> 17;
+    state_ ^= state_ << 5;
+    return state_;
+  }
+
+ private:
+  std::uint32_t state_;
+};
+
+/// A value of T spread uniformly over [-1, 1), with one draw in sixteen a corner case
+/// (-1, the largest value: 1 - lsb for q15/q31 and 1 for float/double, or zero).
+template <class T>
+T any_value(random_bits& r) noexcept {
+  const std::uint32_t u = r.next();
+  if ((u & 15u) == 0) {
+    switch ((u >> 4) % 3) {
+      case 0: return dqfx::from_double<T>(-1.0);
+      case 1: return dqfx::from_double<T>(1.0);
+      default: return T{};
+    }
+  }
+  if constexpr (std::is_same_v<T, q15>) {
+    return q15::from_raw(static_cast<std::int16_t>(static_cast<std::int32_t>(u >> 16) - 32768));
+  } else if constexpr (std::is_same_v<T, q31>) {
+    return q31::from_raw(static_cast<std::int32_t>(static_cast<std::int64_t>(u) - 2147483648));
+  } else if constexpr (std::is_same_v<T, float>) {
+    return static_cast<float>(static_cast<std::int32_t>(u >> 8) - 8388608) * (1.0f / 8388608.0f);
+  } else {
+    const std::uint64_t w = (std::uint64_t{u} << 21) ^ (r.next() >> 11);  // 53 bits
+    return static_cast<double>(static_cast<std::int64_t>(w) - (std::int64_t{1} << 52)) *
+           (1.0 / 4503599627370496.0);
+  }
+}
+
+inline dqfx::angle any_angle(random_bits& r) noexcept { return dqfx::angle::from_raw(r.next()); }
+
+// Kernels of the number layer.
+
+struct multiply {
+  static constexpr const char* name = "a*b";
+  using types = all_types;
+  template <class T> struct input { T a, b; };
+  template <class T> using output = T;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {any_value<T>(r), any_value<T>(r)};
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept { return in.a * in.b; }
+};
+
+struct gain_multiply {
+  static constexpr const char* name = "a*gain";
+  using types = all_types;
+  template <class T> struct input { T a; };
+  template <class T> using output = T;
+  template <class T> static input<T> make(random_bits& r) noexcept { return {any_value<T>(r)}; }
+  template <class T> static output<T> run(const input<T>& in) noexcept {
+    constexpr auto two_over_sqrt3 = dqfx::gain<T>::from_double(1.1547005383792515);
+    return in.a * two_over_sqrt3;
+  }
+};
+
+struct sum_of_products {
+  static constexpr const char* name = "sum_of_products";
+  using types = all_types;
+  template <class T> struct input { T a, b, c, d; };
+  template <class T> using output = T;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {any_value<T>(r), any_value<T>(r), any_value<T>(r), any_value<T>(r)};
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept {
+    return dqfx::sum_of_products(in.a, in.b, in.c, in.d);
+  }
+};
+
+struct angle_advance {
+  static constexpr const char* name = "angle_rate::advance";
+  using types = all_types;
+  template <class T> struct input { dqfx::angle a; T speed; };
+  template <class T> using output = dqfx::angle;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {any_angle(r), any_value<T>(r)};
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept {
+    // Invented scale: per-unit speed 1 is 2*pi*800 rad/s electrical, sampled at 20 kHz.
+    constexpr auto rate = dqfx::angle_rate<T>::from_base(5026.548245743669, 1.0 / 20000.0);
+    return rate.advance(in.a, in.speed);
+  }
+};
+
+// The comparison figure.
+
+struct textbook_current_step {
+  static constexpr const char* name = "textbook_step";
+  using types = type_list<float>;
+  template <class T> using input = textbook_input;
+  template <class T> using output = textbook_output;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    textbook_input in{};
+    in.ia = 0.9f * any_value<float>(r);
+    in.ib = 0.9f * any_value<float>(r);
+    in.theta = static_cast<float>(r.next() >> 8) * (6.2831853f / 16777216.0f);
+    in.id_ref = 0.0f;
+    in.iq_ref = 0.5f * any_value<float>(r);
+    in.id_integral = 0.5f * any_value<float>(r);
+    in.iq_integral = 0.5f * any_value<float>(r);
+    return in;
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept { return textbook_step(in); }
+  /// Rows of this kernel are the reference the report divides by.
+  static constexpr bool is_baseline = true;
+};
+
+/// Every kernel the harness times, in report order.
+template <class... K> struct kernel_list {};
+using timed_kernels = kernel_list<multiply, gain_multiply, sum_of_products, angle_advance,
+                                  textbook_current_step>;
+
+// The registry: one entry per (kernel, type).
+
+/// Largest input or output record, and the number of inputs per kernel.
+inline constexpr std::size_t max_record = 64;
+#ifndef DQFX_TARGET_SAMPLES
+#define DQFX_TARGET_SAMPLES 256
+#endif
+inline constexpr unsigned samples = DQFX_TARGET_SAMPLES;
+
+using call_function = void (*)(const void* input, void* output);
+
+struct entry {
+  const char* kernel;
+  const char* type;
+  call_function call;
+  void (*fill)(unsigned char* inputs);  // writes `samples` inputs
+  std::size_t input_size;
+  std::size_t output_size;
+  bool exact;     // integer arithmetic: the target must match the host bit for bit
+  bool baseline;  // the comparison figure
+};
+
+template <class T> constexpr const char* type_name() noexcept {
+  return dqfx::number_traits<T>::name;
+}
+
+/// The timed call: reads one input, runs the kernel (inlined here), writes one output.
+template <class K, class T>
+DQFX_TARGET_OPAQUE void call(const void* input, void* output) {
+  using in_t = typename K::template input<T>;
+  using out_t = typename K::template output<T>;
+  ::new (output) out_t(K::template run<T>(*static_cast<const in_t*>(input)));
+}
+
+template <class K, class T>
+void fill(unsigned char* inputs) {
+  using in_t = typename K::template input<T>;
+  random_bits r{0x2545F491u};
+  for (unsigned i = 0; i < samples; ++i) ::new (inputs + i * sizeof(in_t)) in_t(K::template make<T>(r));
+}
+
+template <class K, class = void> struct is_baseline_kernel : std::false_type {};
+template <class K>
+struct is_baseline_kernel<K, std::void_t<decltype(K::is_baseline)>> : std::bool_constant<K::is_baseline> {};
+
+template <class K, class T>
+constexpr entry make_entry() noexcept {
+  using in_t = typename K::template input<T>;
+  using out_t = typename K::template output<T>;
+  static_assert(sizeof(in_t) <= max_record && sizeof(out_t) <= max_record, "raise max_record");
+  static_assert(alignof(in_t) <= 8 && alignof(out_t) <= 8, "records are 8-byte aligned");
+  constexpr bool exact = dqfx::is_fixed_v<T>;
+  // Outputs are compared as bytes: an exact kernel's output must have no padding.
+  static_assert(!exact || std::has_unique_object_representations_v<out_t>, "padding in output");
+  return entry{K::name,         type_name<T>(),   &call<K, T>, &fill<K, T>, sizeof(in_t),
+               sizeof(out_t),   exact,            is_baseline_kernel<K>::value};
+}
+
+template <class K, class F, class... T>
+void for_each_type(F& f, type_list<T...>) {
+  (f(make_entry<K, T>()), ...);
+}
+
+template <class F, class... K>
+void for_each_kernel(F& f, kernel_list<K...>) {
+  (for_each_type<K>(f, typename K::types{}), ...);
+}
+
+/// Calls f(entry) for every (kernel, type) in `timed_kernels`.
+template <class F>
+void for_each_entry(F f) {
+  for_each_kernel(f, timed_kernels{});
+}
+
+/// FNV-1a, 64 bit (G. Fowler, L. C. Noll, K.-P. Vo; IETF draft-eastlake-fnv): a digest
+/// of the outputs that host and target print and compare.
+inline std::uint64_t digest(const unsigned char* bytes, std::size_t n) noexcept {
+  std::uint64_t h = 0xcbf29ce484222325u;
+  for (std::size_t i = 0; i < n; ++i) {
+    h ^= bytes[i];
+    h *= 0x100000001b3u;
+  }
+  return h;
+}
+
+}  // namespace dqfx_target
