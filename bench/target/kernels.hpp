@@ -20,6 +20,8 @@
 #include "dqfx/angle.hpp"
 #include "dqfx/frames.hpp"
 #include "dqfx/number.hpp"
+#include "dqfx/polar.hpp"
+#include "dqfx/sincos.hpp"
 #include "textbook.hpp"
 
 #if defined(__GNUC__) && !defined(__clang__)
@@ -133,6 +135,41 @@ struct angle_advance {
   }
 };
 
+// Trigonometry.
+
+struct sine_cosine {
+  static constexpr const char* name = "sincos_of";
+  using types = all_types;
+  template <class T> struct input { dqfx::angle a; };
+  template <class T> using output = dqfx::sincos<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept { return {any_angle(r)}; }
+  template <class T> static output<T> run(const input<T>& in) noexcept {
+    return dqfx::sincos_of<T>(in.a);
+  }
+};
+
+struct vector_angle {
+  static constexpr const char* name = "angle_of";
+  using types = all_types;
+  template <class T> using input = dqfx::stationary<T>;
+  template <class T> using output = dqfx::angle;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {any_value<T>(r), any_value<T>(r)};
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept { return dqfx::angle_of(in); }
+};
+
+struct vector_magnitude {
+  static constexpr const char* name = "magnitude";
+  using types = all_types;
+  template <class T> using input = dqfx::stationary<T>;
+  template <class T> using output = T;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {any_value<T>(r), any_value<T>(r)};
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept { return dqfx::magnitude(in); }
+};
+
 // The comparison figure.
 
 struct textbook_current_step {
@@ -158,8 +195,8 @@ struct textbook_current_step {
 
 /// Every kernel the harness times, in report order.
 template <class... K> struct kernel_list {};
-using timed_kernels = kernel_list<multiply, gain_multiply, sum_of_products, angle_advance,
-                                  textbook_current_step>;
+using timed_kernels = kernel_list<textbook_current_step, multiply, gain_multiply, sum_of_products,
+                                  angle_advance, sine_cosine, vector_angle, vector_magnitude>;
 
 // The registry: one entry per (kernel, type).
 
