@@ -1,0 +1,284 @@
+// SPDX-License-Identifier: MIT
+#pragma once
+/// \file
+/// Discrete parallel-form PI regulator with anti-windup, for q15, q31, float and double.
+///
+///   unlimited = kp * e + x + feed_forward        output = clamp(unlimited, lower, upper)
+///   x        += ki * e  (+ anti-windup correction)
+///
+/// `ki` is the integral gain per sample (Ki * Ts), so the regulator needs no sample time.
+/// Gains of any magnitude: in fixed point each gain is a `dqfx::gain<q31>` (31-bit
+/// mantissa m and a shift s, value = m * 2^(s-31), |value| < 2^30), so kp = 40 and
+/// ki = 1e-4 both keep 31 significant bits and cost one 32x32->64 product and one
+/// rounding. In fixed point the integrator x and the sum kp*e + x + ff are 64-bit
+/// integers in units of 2^-31 with a range of +/-256: a q15 integrator still moves when
+/// ki*e is far below one q15 LSB, and a proportional term of 3 against an integrator of
+/// -2.5 gives 0.5, not a clipped 1 - 2.5. Only the output is rounded (once) to T.
+///
+/// Anti-windup is a compile-time policy tag:
+///   - `conditional_integration`: the integrator holds while the output is limited and
+///     the error would push it further into the limit (clamping);
+///   - `back_calculation`: x += ki * e + kt * (applied - unlimited), the tracking gain kt
+///     per sample being Ts/Tt (0 < kt <= 1; kt = 1 makes x track the limit in one sample);
+///   - `no_anti_windup`: integrates regardless (for comparison and tests).
+/// Both methods are described by Astrom and Hagglund, "Advanced PID Control", 2006.
+///
+/// Limiting that happens outside the regulator (a voltage-vector limit shared by two
+/// regulators) is fed back through the two-phase form `propose` + `commit`; `step` is
+/// both at once with the regulator's own limits.
+
+#include <cstdint>
+#include <type_traits>
+
+#include "dqfx/number.hpp"
+
+namespace dqfx {
+
+/// Anti-windup by conditional integration (clamping).
+struct conditional_integration {};
+/// Anti-windup by back-calculation with a tracking gain.
+struct back_calculation {};
+/// No anti-windup: the integrator winds up (kept for comparison).
+struct no_anti_windup {};
+
+/// Regulator settings in plain numbers (per unit). Converted once, at compile time when
+/// the regulator is a constexpr object.
+struct pi_parameters {
+  double kp = 0.0;         ///< proportional gain
+  double ki = 0.0;         ///< integral gain per sample, Ki * Ts
+  double kt = 0.0;         ///< back-calculation tracking gain per sample, Ts / Tt
+  double lower = -1.0;     ///< output limits; clamped into the type's range
+  double upper = 1.0;
+};
+
+namespace detail {
+template <class T, class = void> struct pi_arith;
+}  // namespace detail
+
+/// The result of `propose`: what the regulator would output, before `commit`.
+template <class T> struct pi_proposal {
+  T output{};                ///< within the regulator's limits
+  T unlimited{};             ///< kp*e + x + feed_forward, rounded and saturated to T
+  T error{};
+  bool input_fault = false;  ///< a non-finite float input: output is zero (limited)
+  typename detail::pi_arith<T>::state sum{};  ///< kp*e + x + feed_forward, full range
+};
+
+namespace detail {
+
+// Deliberately not constexpr: reaching it while evaluating a constexpr regulator stops
+// compilation with this name in the message.
+inline void pi_limits_in_wrong_order_lower_must_not_exceed_upper() noexcept {}
+
+/// The regulator's arithmetic per value type. For float and double it is plain T. For
+/// q15 and q31 the integrator and the sum kp*e + x + ff are 64-bit integers in units of
+/// 2^-31, kept within +/-256 (so a large proportional term, an opposite integrator and
+/// back-calculation from far outside the limits all act exactly), and the output is
+/// rounded once to T.
+template <class T, class> struct pi_arith {
+  using state = T;
+  using gain_type = gain<T>;
+  static constexpr state widen(T v) noexcept { return v; }
+  static constexpr T narrow(state v) noexcept { return v; }
+  static constexpr state product(state v, gain_type g) noexcept { return v * g; }
+  static constexpr state add(state a, state b) noexcept { return a + b; }
+  static constexpr bool finite(T v) noexcept {
+    return v - v == v - v;  // false for NaN and infinities, no libm needed
+  }
+};
+
+template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
+  using state = std::int64_t;
+  using gain_type = gain<q31>;
+  static constexpr state headroom = state{1} << 39;  // 256 in units of 2^-31
+  static constexpr int up = 31 - T::fraction_bits;
+
+  static constexpr state widen(T v) noexcept { return state{v.raw()} * (state{1} << up); }
+  static constexpr T narrow(state v) noexcept {
+    if constexpr (up == 0) {
+      return T::saturated(v);
+    } else {
+      return T::saturated(round_shift(v, up));
+    }
+  }
+  /// v * g rounded once, for |v| <= 2^41 and any gain: v is split at bit 31 so that
+  /// each partial product fits in 64 bits; the result is clamped to +/-headroom.
+  static constexpr state product(state v, gain_type g) noexcept {
+    const state high = v >> 31;                       // floor(v / 2^31), |high| <= 2^10
+    const state low = v - high * (state{1} << 31);    // in [0, 2^31)
+    const state m = g.mantissa();
+    const int s = g.shift();
+    // v*m*2^(s-31) = high*m*2^s + low*m*2^(s-31); the first term is exact.
+    const state high_part = high * m;                 // |.| <= 2^41
+    if (high_part > (headroom >> s) || high_part < -(headroom >> s)) {
+      note_saturation();
+      return high_part < 0 ? -headroom : headroom;
+    }
+    return clamp(high_part * (state{1} << s) + round_shift(low * m, 31 - s));
+  }
+  static constexpr state add(state a, state b) noexcept { return clamp(a + b); }
+  static constexpr bool finite(T) noexcept { return true; }
+
+ private:
+  static constexpr state clamp(state v) noexcept {
+    if (v > headroom) { note_saturation(); return headroom; }
+    if (v < -headroom) { note_saturation(); return -headroom; }
+    return v;
+  }
+};
+
+/// A double clamped into T's range without counting it as a saturation event (limits
+/// of +/-1 are the normal way to ask for "the whole range" in fixed point).
+template <class T>
+constexpr T clamp_to_range(double v) noexcept {
+  const double hi = to_double(number_traits<T>::max());
+  const double lo = to_double(number_traits<T>::lowest());
+  return from_double<T>(v > hi ? hi : (v < lo ? lo : v));
+}
+
+}  // namespace detail
+
+template <class T, class AntiWindup = back_calculation>
+class pi_regulator {
+  static_assert(is_number_v<T>, "dqfx::pi_regulator supports q15, q31, float and double");
+  static_assert(std::is_same_v<AntiWindup, conditional_integration> ||
+                    std::is_same_v<AntiWindup, back_calculation> ||
+                    std::is_same_v<AntiWindup, no_anti_windup>,
+                "anti-windup policy: conditional_integration, back_calculation or no_anti_windup");
+  using arith = detail::pi_arith<T>;
+  using state = typename arith::state;
+
+ public:
+  using value_type = T;
+  using anti_windup = AntiWindup;
+  /// gain<q31> for q15 and q31 (31-bit mantissa and shift), gain<T> for float and double.
+  using gain_type = typename arith::gain_type;
+
+  constexpr pi_regulator() noexcept = default;
+
+  /// Limits in the wrong order (or NaN) are a compile-time error for a constexpr
+  /// regulator; at run time they are put in order (NaN: [0, 0]) and `limits_fault()`
+  /// is raised. kt is clamped into [0, 1].
+  constexpr explicit pi_regulator(const pi_parameters& p) noexcept
+      : kp_{gain_type::from_double(p.kp)},
+        ki_{gain_type::from_double(p.ki)},
+        kt_{gain_type::from_double(p.kt > 1.0 ? 1.0 : (p.kt > 0.0 ? p.kt : 0.0))} {
+    if (!(p.lower <= p.upper)) {
+      detail::pi_limits_in_wrong_order_lower_must_not_exceed_upper();
+      limits_fault_ = true;
+      if (detail::is_nan(p.lower) || detail::is_nan(p.upper)) {
+        lower_ = upper_ = T{};
+        return;
+      }
+    }
+    set_limits(detail::clamp_to_range<T>(p.lower), detail::clamp_to_range<T>(p.upper));
+  }
+
+  /// Changes the output limits at run time. Returns false, raises `limits_fault()` and
+  /// uses [upper, lower] when they arrive in the wrong order; NaN limits leave the
+  /// present limits unchanged (also false and flagged).
+  constexpr bool set_limits(T lower, T upper) noexcept {
+    if (!arith::finite(lower) || !arith::finite(upper)) {
+      limits_fault_ = true;
+      return false;
+    }
+    const bool in_order = !(upper < lower);
+    lower_ = in_order ? lower : upper;
+    upper_ = in_order ? upper : lower;
+    limits_fault_ = limits_fault_ || !in_order;
+    return in_order;
+  }
+  constexpr T lower() const noexcept { return lower_; }
+  constexpr T upper() const noexcept { return upper_; }
+
+  /// What the regulator outputs for this error, without changing its state. A
+  /// non-finite float error or feed-forward gives output 0 (clamped into the limits)
+  /// and `input_fault`.
+  constexpr pi_proposal<T> propose(T error, T feed_forward = T{}) const noexcept {
+    pi_proposal<T> p{};
+    p.error = error;
+    if (!arith::finite(error) || !arith::finite(feed_forward)) {
+      p.input_fault = true;
+      p.output = clamp(T{});
+      return p;
+    }
+    p.sum = arith::add(arith::add(arith::product(arith::widen(error), kp_), x_),
+                       arith::widen(feed_forward));
+    p.unlimited = arith::narrow(p.sum);
+    p.output = clamp(p.unlimited);
+    return p;
+  }
+
+  /// Finishes the sample: integrates, given the output that was actually applied
+  /// (the proposal's own output, or a value limited further outside). A faulty
+  /// proposal or a non-finite applied value leaves the state unchanged and raises
+  /// `input_fault()`.
+  constexpr void commit(const pi_proposal<T>& p, T applied) noexcept {
+    if (p.input_fault || !arith::finite(applied)) {
+      input_fault_ = true;
+      return;
+    }
+    const state increment = arith::product(arith::widen(p.error), ki_);
+    // > 0: limited from above. Zero when the output is the unlimited value rounded to T
+    // (the rounding residual is not a limit).
+    const state excess = applied == p.unlimited ? state{} : p.sum - arith::widen(applied);
+    if constexpr (std::is_same_v<AntiWindup, conditional_integration>) {
+      const bool deeper = (excess > state{} && increment > state{}) ||
+                          (excess < state{} && increment < state{});
+      if (!deeper) x_ = arith::add(x_, increment);
+    } else if constexpr (std::is_same_v<AntiWindup, back_calculation>) {
+      x_ = arith::add(x_, increment - arith::product(excess, kt_));
+    } else {
+      x_ = arith::add(x_, increment);
+    }
+  }
+
+  /// One sample with the regulator's own limits: propose, then commit its output.
+  constexpr T step(T error, T feed_forward = T{}) noexcept {
+    const pi_proposal<T> p = propose(error, feed_forward);
+    commit(p, p.output);
+    return p.output;
+  }
+
+  /// Clears the integrator.
+  constexpr void reset() noexcept { x_ = state{}; }
+
+  /// Bumpless transfer: sets the integrator so that the next output, for this error
+  /// and feed-forward, is `output` (before limiting). Non-finite inputs leave it
+  /// unchanged and raise `input_fault()`.
+  constexpr void preload(T output, T error = T{}, T feed_forward = T{}) noexcept {
+    if (!arith::finite(output) || !arith::finite(error) || !arith::finite(feed_forward)) {
+      input_fault_ = true;
+      return;
+    }
+    x_ = arith::add(arith::widen(output) - arith::widen(feed_forward),
+                    -arith::product(arith::widen(error), kp_));
+  }
+
+  /// The integrator, rounded and saturated to T.
+  constexpr T integral() const noexcept { return arith::narrow(x_); }
+
+  /// Sticky: limits arrived in the wrong order or as NaN.
+  constexpr bool limits_fault() const noexcept { return limits_fault_; }
+  /// Sticky: a non-finite input was refused.
+  constexpr bool input_fault() const noexcept { return input_fault_; }
+  constexpr void clear_faults() noexcept { limits_fault_ = input_fault_ = false; }
+
+  constexpr gain_type kp() const noexcept { return kp_; }
+  constexpr gain_type ki() const noexcept { return ki_; }
+  constexpr gain_type kt() const noexcept { return kt_; }
+
+ private:
+  constexpr T clamp(T v) const noexcept { return v > upper_ ? upper_ : (v < lower_ ? lower_ : v); }
+
+  gain_type kp_{};
+  gain_type ki_{};
+  gain_type kt_{};
+  state x_{};
+  T lower_{number_traits<T>::lowest()};
+  T upper_{number_traits<T>::max()};
+  bool limits_fault_ = false;
+  bool input_fault_ = false;
+};
+
+}  // namespace dqfx
