@@ -1,0 +1,40 @@
+# SPDX-License-Identifier: MIT
+# ctest script (cmake -P) for one compile-fail case. The case file names the diagnostic
+# it expects on a line `// expect: <text>` and guards the offending code with
+# `#ifdef DQFX_SHOULD_FAIL`. The case must compile without that macro (so the failure is
+# not a typo elsewhere) and must fail with it, printing the expected text.
+#   COMPILER     the C++ compiler
+#   FLAGS        '|'-separated compile flags
+#   INCLUDE_DIR  the include/ directory
+#   SOURCE       the case file
+cmake_minimum_required(VERSION 3.20)
+foreach(var COMPILER FLAGS INCLUDE_DIR SOURCE)
+  if(NOT DEFINED ${var})
+    message(FATAL_ERROR "check_compile_fail.cmake: ${var} is not set")
+  endif()
+endforeach()
+string(REPLACE "|" ";" flags "${FLAGS}")
+
+file(STRINGS ${SOURCE} expect_lines REGEX "^// expect: ")
+if(NOT expect_lines)
+  message(FATAL_ERROR "${SOURCE}: no '// expect: <text>' line")
+endif()
+list(GET expect_lines 0 expected)
+string(REGEX REPLACE "^// expect: " "" expected "${expected}")
+
+set(compile ${COMPILER} ${flags} -I${INCLUDE_DIR} -fsyntax-only ${SOURCE})
+execute_process(COMMAND ${compile} RESULT_VARIABLE rc OUTPUT_VARIABLE out ERROR_VARIABLE out)
+if(NOT rc EQUAL 0)
+  message(FATAL_ERROR "the case does not compile even without DQFX_SHOULD_FAIL:\n${out}")
+endif()
+
+execute_process(COMMAND ${compile} -DDQFX_SHOULD_FAIL RESULT_VARIABLE rc OUTPUT_VARIABLE out ERROR_VARIABLE out)
+if(rc EQUAL 0)
+  message(FATAL_ERROR "compiled, but must not: ${SOURCE}")
+endif()
+string(FIND "${out}" "${expected}" at)
+if(at EQUAL -1)
+  message(FATAL_ERROR "failed to compile as it should, but without the expected message\n"
+                      "expected: ${expected}\ncompiler output:\n${out}")
+endif()
+message(STATUS "fails to compile as expected: ${expected}")

@@ -1,0 +1,28 @@
+# SPDX-License-Identifier: MIT
+# Packaging tests (label `package`): the consumer project in this folder builds and runs
+# against dqfx used through add_subdirectory, FetchContent from the local source tree, and
+# find_package(dqfx CONFIG) after `cmake --install` of this build into a scratch prefix.
+set(dqfx_consumer_src ${CMAKE_CURRENT_LIST_DIR})
+set(dqfx_consumer_bin ${CMAKE_CURRENT_BINARY_DIR}/consumer)
+set(dqfx_consumer_prefix ${dqfx_consumer_bin}/prefix)
+
+function(dqfx_add_consumer_test mode)
+  add_test(NAME package.${mode} COMMAND ${CMAKE_CTEST_COMMAND}
+    --build-and-test ${dqfx_consumer_src} ${dqfx_consumer_bin}/${mode}
+    --build-generator ${CMAKE_GENERATOR}
+    --build-makeprogram ${CMAKE_MAKE_PROGRAM}
+    --build-options -DCMAKE_CXX_COMPILER=${CMAKE_CXX_COMPILER} -DDQFX_CONSUMER_MODE=${mode}
+                    -DDQFX_SOURCE_DIR=${PROJECT_SOURCE_DIR} -DCMAKE_PREFIX_PATH=${dqfx_consumer_prefix}
+    --test-command dqfx_consumer)
+  set_tests_properties(package.${mode} PROPERTIES LABELS package ${ARGN})
+endfunction()
+
+dqfx_add_consumer_test(subdirectory)
+dqfx_add_consumer_test(fetchcontent)
+if(DQFX_INSTALL)
+  add_test(NAME package.install COMMAND ${CMAKE_COMMAND}
+    -DBUILD_DIR=${PROJECT_BINARY_DIR} -DPREFIX=${dqfx_consumer_prefix}
+    -P ${dqfx_consumer_src}/install.cmake)
+  set_tests_properties(package.install PROPERTIES LABELS package FIXTURES_SETUP dqfx_installed)
+  dqfx_add_consumer_test(find_package FIXTURES_REQUIRED dqfx_installed)
+endif()
