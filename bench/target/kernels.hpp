@@ -6,7 +6,9 @@
 /// timed on every core, sized, and (for q15/q31) checked bit for bit against the host.
 ///
 /// A kernel struct has
-///   - `name`: how the report shows it,
+///   - `name`: how the report shows it (no spaces),
+///   - optionally `kind`: `role::step` for a whole current-loop step, which the report
+///     compares with the textbook baseline (default `role::part`),
 ///   - `types`: the number types it runs for,
 ///   - `input<T>`, `output<T>`: plain structs (at most `max_record` bytes),
 ///   - `make<T>(random_bits&)`: one input, drawn from the shared generator,
@@ -81,6 +83,11 @@ T any_value(random_bits& r) noexcept {
 }
 
 inline dqfx::angle any_angle(random_bits& r) noexcept { return dqfx::angle::from_raw(r.next()); }
+
+/// What a kernel is to the report: the textbook baseline, a whole current-loop step (its
+/// ratio to the baseline is shown) or a part of one.
+enum class role { part, step, baseline };
+inline constexpr const char* role_names[] = {"part", "step", "baseline"};
 
 // Kernels of the number layer.
 
@@ -189,8 +196,7 @@ struct textbook_current_step {
     return in;
   }
   template <class T> static output<T> run(const input<T>& in) noexcept { return textbook_step(in); }
-  /// Rows of this kernel are the reference the report divides by.
-  static constexpr bool is_baseline = true;
+  static constexpr role kind = role::baseline;
 };
 
 /// Every kernel the harness times, in report order.
@@ -216,8 +222,8 @@ struct entry {
   void (*fill)(unsigned char* inputs);  // writes `samples` inputs
   std::size_t input_size;
   std::size_t output_size;
-  bool exact;     // integer arithmetic: the target must match the host bit for bit
-  bool baseline;  // the comparison figure
+  bool exact;  // integer arithmetic: the target must match the host bit for bit
+  role kind;
 };
 
 template <class T> constexpr const char* type_name() noexcept {
@@ -239,9 +245,9 @@ void fill(unsigned char* inputs) {
   for (unsigned i = 0; i < samples; ++i) ::new (inputs + i * sizeof(in_t)) in_t(K::template make<T>(r));
 }
 
-template <class K, class = void> struct is_baseline_kernel : std::false_type {};
+template <class K, class = void> struct role_of : std::integral_constant<role, role::part> {};
 template <class K>
-struct is_baseline_kernel<K, std::void_t<decltype(K::is_baseline)>> : std::bool_constant<K::is_baseline> {};
+struct role_of<K, std::void_t<decltype(K::kind)>> : std::integral_constant<role, K::kind> {};
 
 template <class K, class T>
 constexpr entry make_entry() noexcept {
@@ -252,8 +258,8 @@ constexpr entry make_entry() noexcept {
   constexpr bool exact = dqfx::is_fixed_v<T>;
   // Outputs are compared as bytes: an exact kernel's output must have no padding.
   static_assert(!exact || std::has_unique_object_representations_v<out_t>, "padding in output");
-  return entry{K::name,         type_name<T>(),   &call<K, T>, &fill<K, T>, sizeof(in_t),
-               sizeof(out_t),   exact,            is_baseline_kernel<K>::value};
+  return entry{K::name,      type_name<T>(), &call<K, T>, &fill<K, T>, sizeof(in_t),
+               sizeof(out_t), exact,          role_of<K>::value};
 }
 
 template <class K, class F, class... T>

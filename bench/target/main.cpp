@@ -1,7 +1,7 @@
 // SPDX-License-Identifier: MIT
 // The Cortex-M harness: times every kernel of kernels.hpp over `samples` inputs and
 // prints one line per kernel and type (see report.cmake for the format):
-//   kernel <name> <type> <mean> <worst> <repeats> <wrapper address> <output digest>
+//   kernel <name> <type> <mean> <worst> <repeats> <wrapper address> <output digest> <role>
 // Each call goes through an opaque wrapper, and the same loop around an empty wrapper is
 // subtracted, so a figure is what one call costs, including loading its operands and
 // storing its result.
@@ -105,7 +105,8 @@ void measure(const entry& e, double per_count) noexcept {
   line.add("kernel ").add(e.kernel).add(' ').add(e.type).add(' ').tenths(mean).add(' ');
   line.rounded(worst).add(' ').decimal(repeats).add(" 0x");
   line.hex(reinterpret_cast<std::uintptr_t>(e.call), 8).add(' ');
-  line.hex(digest(outputs, samples * e.output_size), 16);
+  line.hex(digest(outputs, samples * e.output_size), 16).add(' ');
+  line.add(role_names[static_cast<int>(e.kind)]);
   print(line);
 }
 

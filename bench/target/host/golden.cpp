@@ -44,7 +44,7 @@ int main() {
     std::printf("digest %s %s %016llx %s\n", e.kernel, e.type,
                 static_cast<unsigned long long>(digest(outputs, samples * e.output_size)),
                 e.exact ? "exact" : "informational");
-    if (e.baseline) {
+    if (e.kind == role::baseline) {
       textbook_output out[samples];
       std::memcpy(out, outputs, sizeof out);
       if (!baseline_is_sound(out, samples)) {
