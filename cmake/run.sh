@@ -39,6 +39,10 @@ case "${1:-}" in
       echo "dqfx: workflow $workflow"
       cmake --workflow --preset "$workflow"
     done
+    # Cortex-M0/M3/M4F/M7 images under QEMU (ctest label `target`): harness runs,
+    # golden vectors against the host, ARMv6-M instruction check.
+    echo "dqfx: workflow cortex-m"
+    cmake --workflow --preset cortex-m
     ;;
   *)
     echo "usage: $0 demo|test" >&2
