@@ -405,3 +405,15 @@ TEST_CASE_TEMPLATE("sum_of_products, difference_of_products, accumulator: float 
   CHECK(wrong == 0);
   static_assert(dqfx::sum_of_products(0.5, 0.5, 0.25, 2.0) == 0.75);
 }
+
+TEST_CASE_TEMPLATE("abs and the operators: float and double are plain IEEE arithmetic", T, float, double) {
+  static_assert(dqfx::abs(T(-2.5)) == T(2.5) && dqfx::abs(T(2.5)) == T(2.5));
+  static_assert(noexcept(dqfx::abs(T{})));
+  CHECK(dqfx::abs(std::numeric_limits<T>::lowest()) == std::numeric_limits<T>::max());
+  CHECK(dqfx::abs(-std::numeric_limits<T>::infinity()) == std::numeric_limits<T>::infinity());
+  CHECK(dqfx::abs(T(-0.0)) == T{0});
+  CHECK(std::isnan(dqfx::abs(std::numeric_limits<T>::quiet_NaN())));
+  // No saturation for float and double: overflow gives infinity, as IEEE 754 defines.
+  CHECK(std::isinf(std::numeric_limits<T>::max() + std::numeric_limits<T>::max()));
+  CHECK(dqfx::from_double<T>(0.5) * dqfx::from_double<T>(0.5) == T(0.25));
+}
