@@ -1,0 +1,255 @@
+// SPDX-License-Identifier: MIT
+#pragma once
+/// \file
+/// Phase currents from ADC codes: conversion to per-unit current with offset and gain,
+/// offset calibration at zero current, and reconstruction of the three phase currents
+/// from three low-side shunts or two phase sensors. A railed or missing sample is
+/// flagged and never used.
+///
+/// Codes are read relative to mid-scale and the full ADC range: x = (code - 2^(bits-1))
+/// / 2^bits, in [-1/2, 1/2), so that a reading minus its offset, x - o, stays in (-1, 1)
+/// and the conversion current = (x - o) * gain is one rounding (q15: exact x for ADCs of
+/// up to 15 bits; a 16-bit code is rounded to 15).
+
+#include <cstdint>
+
+#include "dqfx/frames.hpp"
+#include "dqfx/number.hpp"
+#include "dqfx/svm.hpp"
+
+namespace dqfx {
+
+/// ADC resolution and where its rails begin.
+struct adc_format {
+  /// Resolution in bits, 8 to 16.
+  unsigned bits = 12;
+  /// Codes within this distance of 0 or of the largest code count as railed: the
+  /// amplifier or converter is saturated there and the reading is not the current.
+  std::uint16_t rail_margin = 0;
+
+  constexpr std::uint32_t largest_code() const noexcept { return (std::uint32_t{1} << bits) - 1u; }
+  constexpr bool railed(std::uint16_t code) const noexcept {
+    return code <= rail_margin || std::uint32_t{code} + rail_margin >= largest_code();
+  }
+};
+
+/// One conversion result, or the lack of one (no sampling window, conversion not done).
+struct adc_sample {
+  std::uint16_t code = 0;
+  bool present = true;
+};
+
+namespace detail {
+
+/// (code - mid-scale) / 2^bits in T. q15 keeps 15 fraction bits (a 16-bit code is
+/// rounded); q31, float and double are exact.
+template <class T>
+constexpr T centred_code(std::uint16_t code, unsigned bits) noexcept {
+  const std::int32_t centred = static_cast<std::int32_t>(code) - (std::int32_t{1} << (bits - 1));
+  if constexpr (is_fixed_v<T>) {
+    const int up = T::fraction_bits - static_cast<int>(bits);
+    if (up >= 0) return T::saturated(std::int64_t{centred} * (std::int64_t{1} << up));
+    return T::saturated(round_shift(std::int64_t{centred}, -up));
+  } else {
+    T x = static_cast<T>(centred);
+    for (unsigned i = 0; i < bits; ++i) x *= T{0.5};
+    return x;
+  }
+}
+
+}  // namespace detail
+
+/// One current channel: ADC code to per-unit current, current = (x - offset) * gain.
+template <class T>
+class current_channel {
+ public:
+  constexpr current_channel() noexcept = default;
+  /// From the amplifier: `amps_per_code` (negative for an inverting amplifier) and the
+  /// base current of the per-unit system. The offset starts at mid-scale.
+  static constexpr current_channel from_amplifier(adc_format format, double amps_per_code,
+                                                  double base_amps) noexcept {
+    double full_range = amps_per_code / base_amps;
+    for (unsigned i = 0; i < format.bits; ++i) full_range *= 2.0;
+    return current_channel{format, gain<T>::from_double(full_range), T{}};
+  }
+  /// The same channel with a calibrated offset (from `offset_calibration`).
+  constexpr current_channel with_offset(T offset) const noexcept {
+    return current_channel{format_, gain_, offset};
+  }
+
+  constexpr const adc_format& format() const noexcept { return format_; }
+  constexpr T offset() const noexcept { return offset_; }
+  /// The code as a reading x = (code - mid-scale) / 2^bits.
+  constexpr T reading(std::uint16_t code) const noexcept { return detail::centred_code<T>(code, format_.bits); }
+  /// Per-unit current of a code (railed or not: check `usable` first).
+  constexpr T current(std::uint16_t code) const noexcept { return (reading(code) - offset_) * gain_; }
+  /// The sample exists and is not at a rail.
+  constexpr bool usable(adc_sample s) const noexcept {
+    return s.present && std::uint32_t{s.code} <= format_.largest_code() && !format_.railed(s.code);
+  }
+
+ private:
+  constexpr current_channel(adc_format f, gain<T> g, T o) noexcept : format_{f}, gain_{g}, offset_{o} {}
+  adc_format format_{};
+  gain<T> gain_{};
+  T offset_{};
+};
+
+/// Averages N codes taken at zero current into an offset, and refuses the run when the
+/// codes spread more than allowed (a current was flowing, or noise is too high) or a
+/// sample was missing or railed.
+template <class T>
+class offset_calibration {
+ public:
+  /// `samples` in [1, 65536]; `max_spread`: largest allowed max - min of the codes.
+  constexpr offset_calibration(adc_format format, std::uint32_t samples, std::uint16_t max_spread) noexcept
+      : format_{format},
+        samples_{samples == 0 ? 1u : (samples > 65536u ? 65536u : samples)},
+        max_spread_{max_spread} {}
+
+  /// Adds one sample; ignored once the run is complete.
+  constexpr void add(adc_sample s) noexcept {
+    if (complete()) return;
+    const bool good = s.present && std::uint32_t{s.code} <= format_.largest_code() && !format_.railed(s.code);
+    if (!good) {
+      bad_ = true;
+    } else {
+      sum_ += s.code;
+      lowest_ = s.code < lowest_ ? s.code : lowest_;
+      highest_ = s.code > highest_ ? s.code : highest_;
+    }
+    ++count_;
+  }
+  constexpr bool complete() const noexcept { return count_ >= samples_; }
+  /// Complete, no missing or railed sample, and a spread within the limit.
+  constexpr bool accepted() const noexcept { return complete() && !bad_ && spread() <= max_spread_; }
+  /// max - min of the codes so far (0 before the first good sample).
+  constexpr std::uint16_t spread() const noexcept {
+    return highest_ >= lowest_ ? static_cast<std::uint16_t>(highest_ - lowest_) : std::uint16_t{0};
+  }
+  /// The mean code as a reading (see `current_channel::reading`), rounded to nearest;
+  /// zero unless accepted.
+  constexpr T offset() const noexcept {
+    if (!accepted()) return T{};
+    const std::int64_t n = samples_;
+    // sum - n * mid: |.| <= 2^16 * 2^15, exact.
+    const std::int64_t centred = static_cast<std::int64_t>(sum_) - n * (std::int64_t{1} << (format_.bits - 1));
+    if constexpr (is_fixed_v<T>) {
+      // centred / n / 2^bits at 2^-fraction_bits; the numerator is below 2^(31+31).
+      const std::int64_t num = centred * (std::int64_t{1} << T::fraction_bits);
+      const std::int64_t den = n * (std::int64_t{1} << format_.bits);
+      std::int64_t q = num / den;  // toward zero; then to nearest, ties away from zero
+      const std::int64_t r = num % den;
+      if (2 * (r < 0 ? -r : r) >= den) q += num < 0 ? -1 : 1;
+      return T::saturated(q);
+    } else {
+      T x = static_cast<T>(static_cast<double>(centred) / static_cast<double>(n));
+      for (unsigned i = 0; i < format_.bits; ++i) x *= T{0.5};
+      return x;
+    }
+  }
+  constexpr void restart() noexcept { *this = offset_calibration{format_, samples_, max_spread_}; }
+
+ private:
+  adc_format format_{};
+  std::uint32_t samples_ = 1;
+  std::uint16_t max_spread_ = 0;
+  std::uint32_t count_ = 0;
+  std::uint32_t sum_ = 0;
+  std::uint16_t lowest_ = 0xFFFF;
+  std::uint16_t highest_ = 0;
+  bool bad_ = false;
+};
+
+/// Three phase currents and how they were obtained.
+template <class T> struct phase_current_measurement {
+  phases<T> current{};
+  /// At least two usable samples were available; otherwise the currents are zero.
+  bool valid = false;
+  /// The phase computed from a + b + c = 0 (0 = a, 1 = b, 2 = c).
+  std::uint8_t derived_phase = 0;
+  /// Bit p set: phase p's sample was at a rail.
+  std::uint8_t railed = 0;
+  /// Bit p set: phase p's sample was missing, or its low-side window was too short.
+  std::uint8_t missing = 0;
+};
+
+/// Three low-side shunts: each phase's current can only be read while its low-side
+/// switch conducts, i.e. for 1 - duty of the period. The two phases with the longest
+/// low-side on-time (smallest duties) are used and the third follows from the sum being
+/// zero; a phase whose sample is missing, railed or whose window is below
+/// `minimum_low_side` (a fraction of the period) is skipped in favour of the next.
+template <class T>
+class three_shunt {
+ public:
+  constexpr three_shunt() noexcept = default;
+  constexpr three_shunt(phases<current_channel<T>> channels, T minimum_low_side) noexcept
+      : channels_{channels}, minimum_low_side_{minimum_low_side} {}
+
+  /// `duty`: the duties that were applied in the period the samples were taken in.
+  constexpr phase_current_measurement<T> reconstruct(phases<adc_sample> sample, phases<T> duty) const noexcept {
+    const current_channel<T>* channel[3] = {&channels_.a, &channels_.b, &channels_.c};
+    const adc_sample s[3] = {sample.a, sample.b, sample.c};
+    const T d[3] = {duty.a, duty.b, duty.c};
+    phase_current_measurement<T> out{};
+    bool usable[3]{};
+    for (int p = 0; p < 3; ++p) {
+      const bool window = full_duty<T>() - d[p] >= minimum_low_side_;  // false for NaN duty
+      const bool present = s[p].present && window;
+      const bool at_rail = present && !channel[p]->usable(s[p]);
+      usable[p] = present && !at_rail;
+      out.missing = static_cast<std::uint8_t>(out.missing | (present ? 0 : 1 << p));
+      out.railed = static_cast<std::uint8_t>(out.railed | (at_rail ? 1 << p : 0));
+    }
+    // Phases by ascending duty (longest low-side window first); ties keep a, b, c order.
+    int order[3] = {0, 1, 2};
+    auto before = [&](int x, int y) { return d[y] < d[x]; };
+    if (before(order[0], order[1])) { const int t = order[0]; order[0] = order[1]; order[1] = t; }
+    if (before(order[1], order[2])) { const int t = order[1]; order[1] = order[2]; order[2] = t; }
+    if (before(order[0], order[1])) { const int t = order[0]; order[0] = order[1]; order[1] = t; }
+    int used[2] = {-1, -1};
+    int n = 0;
+    for (int k = 0; k < 3 && n < 2; ++k)
+      if (usable[order[k]]) used[n++] = order[k];
+    if (n < 2) return out;
+    const int derived = 3 - used[0] - used[1];
+    T i[3]{};
+    i[used[0]] = channel[used[0]]->current(s[used[0]].code);
+    i[used[1]] = channel[used[1]]->current(s[used[1]].code);
+    i[derived] = -(i[used[0]] + i[used[1]]);
+    out.current = {i[0], i[1], i[2]};
+    out.valid = true;
+    out.derived_phase = static_cast<std::uint8_t>(derived);
+    return out;
+  }
+
+ private:
+  phases<current_channel<T>> channels_{};
+  T minimum_low_side_{};
+};
+
+/// Two phase sensors (on phases a and b, e.g. in-line or Hall-effect): c = -(a + b).
+template <class T>
+class two_sensor {
+ public:
+  constexpr two_sensor() noexcept = default;
+  constexpr two_sensor(current_channel<T> a, current_channel<T> b) noexcept : a_{a}, b_{b} {}
+
+  constexpr phase_current_measurement<T> reconstruct(adc_sample a, adc_sample b) const noexcept {
+    phase_current_measurement<T> out{};
+    out.derived_phase = 2;
+    out.missing = static_cast<std::uint8_t>((a.present ? 0 : 1) | (b.present ? 0 : 2));
+    out.railed = static_cast<std::uint8_t>((a.present && !a_.usable(a) ? 1 : 0) |
+                                           (b.present && !b_.usable(b) ? 2 : 0));
+    if (out.missing != 0 || out.railed != 0) return out;
+    const T ia = a_.current(a.code), ib = b_.current(b.code);
+    out.current = {ia, ib, -(ia + ib)};
+    out.valid = true;
+    return out;
+  }
+
+ private:
+  current_channel<T> a_{}, b_{};
+};
+
+}  // namespace dqfx
