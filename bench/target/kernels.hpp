@@ -22,6 +22,7 @@
 #include "dqfx/angle.hpp"
 #include "dqfx/frames.hpp"
 #include "dqfx/number.hpp"
+#include "dqfx/pi_regulator.hpp"
 #include "dqfx/polar.hpp"
 #include "dqfx/sincos.hpp"
 #include "textbook.hpp"
@@ -177,6 +178,31 @@ struct vector_magnitude {
   template <class T> static output<T> run(const input<T>& in) noexcept { return dqfx::magnitude(in); }
 };
 
+// Regulation.
+
+struct pi_step {
+  static constexpr const char* name = "pi_regulator::step";
+  using types = all_types;
+  /// The regulator object travels with each input (its gains, limits and integrator),
+  /// as it would sit in memory in a firmware.
+  template <class T> struct input {
+    dqfx::pi_regulator<T> regulator;
+    T error;
+  };
+  template <class T> struct output { T value, integral; };
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Invented tuning: kp 0.8, ki 0.05 per sample, tracking gain 0.5, limits +/-0.9.
+    dqfx::pi_regulator<T> regulator{dqfx::pi_parameters{0.8, 0.05, 0.5, -0.9, 0.9}};
+    regulator.preload(any_value<T>(r) * dqfx::from_double<T>(0.9));
+    return {regulator, any_value<T>(r)};
+  }
+  template <class T> static output<T> run(const input<T>& in) noexcept {
+    dqfx::pi_regulator<T> regulator = in.regulator;
+    const T value = regulator.step(in.error);
+    return {value, regulator.integral()};
+  }
+};
+
 // The comparison figure.
 
 struct textbook_current_step {
@@ -202,7 +228,8 @@ struct textbook_current_step {
 /// Every kernel the harness times, in report order.
 template <class... K> struct kernel_list {};
 using timed_kernels = kernel_list<textbook_current_step, multiply, gain_multiply, sum_of_products,
-                                  angle_advance, sine_cosine, vector_angle, vector_magnitude>;
+                                  angle_advance, sine_cosine, vector_angle, vector_magnitude,
+                                  pi_step>;
 
 // The registry: one entry per (kernel, type).
 
