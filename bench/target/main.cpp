@@ -51,13 +51,14 @@ DQFX_TARGET_OPAQUE std::uint32_t time_pass(call_function f, const entry& e) {
   return counter_elapsed(start, counter_read());
 }
 
-/// Units (instructions or cycles) per count.
+/// Units (instructions or cycles) per count; 0 if the counter does not advance (for
+/// example the DWT cycle counter under QEMU, which does not model it).
 double calibrate() noexcept {
-  if (!counter_needs_calibration) return 1.0;
   constexpr unsigned repeats = 64;
   const double block = time_repeated(nop_block, nullptr, nullptr, repeats);
   const double empty = time_repeated(empty_call, nullptr, nullptr, repeats);
   if (block - empty < 1.0) return 0.0;
+  if (!counter_needs_calibration) return 1.0;
   const double per_count = nops_per_block * repeats / (block - empty);
   // The icount clock advances a whole number of instructions per tick: take the nearest
   // whole number when the measurement is within 0.1 % of it.
