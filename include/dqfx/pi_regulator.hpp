@@ -57,11 +57,12 @@ template <class T, class = void> struct pi_arith;
 
 /// The result of `propose`: what the regulator would output, before `commit`.
 template <class T> struct pi_proposal {
+  using state = typename detail::pi_arith<T>::state;
   T output{};                ///< within the regulator's limits
   T unlimited{};             ///< kp*e + x + feed_forward, rounded and saturated to T
-  T error{};
   bool input_fault = false;  ///< a non-finite float input: output is zero (limited)
-  typename detail::pi_arith<T>::state sum{};  ///< kp*e + x + feed_forward, full range
+  state error{};             ///< the error, full range (fixed point: 2^-31 units)
+  state sum{};               ///< kp*e + x + feed_forward, full range
 };
 
 namespace detail {
@@ -195,18 +196,15 @@ class pi_regulator {
   /// non-finite float error or feed-forward gives output 0 (clamped into the limits)
   /// and `input_fault`.
   constexpr pi_proposal<T> propose(T error, T feed_forward = T{}) const noexcept {
-    pi_proposal<T> p{};
-    p.error = error;
-    if (!arith::finite(error) || !arith::finite(feed_forward)) {
-      p.input_fault = true;
-      p.output = clamp(T{});
-      return p;
-    }
-    p.sum = arith::add(arith::add(arith::product(arith::widen(error), kp_), x_),
-                       arith::widen(feed_forward));
-    p.unlimited = arith::narrow(p.sum);
-    p.output = clamp(p.unlimited);
-    return p;
+    if (!arith::finite(error)) return faulty();
+    return propose_error(arith::widen(error), feed_forward);
+  }
+
+  /// The same for the error setpoint - measurement, formed at full range: in q15/q31
+  /// a set-point of 0.8 against a measurement of -0.4 is an error of 1.2, not max().
+  constexpr pi_proposal<T> propose_from(T setpoint, T measurement, T feed_forward) const noexcept {
+    if (!arith::finite(setpoint) || !arith::finite(measurement)) return faulty();
+    return propose_error(arith::widen(setpoint) - arith::widen(measurement), feed_forward);
   }
 
   /// Finishes the sample: integrates, given the output that was actually applied
@@ -218,7 +216,7 @@ class pi_regulator {
       input_fault_ = true;
       return;
     }
-    const state increment = arith::product(arith::widen(p.error), ki_);
+    const state increment = arith::product(p.error, ki_);
     // > 0: limited from above. Zero when the output is the unlimited value rounded to T
     // (the rounding residual is not a limit).
     const state excess = applied == p.unlimited ? state{} : p.sum - arith::widen(applied);
@@ -270,6 +268,23 @@ class pi_regulator {
 
  private:
   constexpr T clamp(T v) const noexcept { return v > upper_ ? upper_ : (v < lower_ ? lower_ : v); }
+
+  constexpr pi_proposal<T> faulty() const noexcept {
+    pi_proposal<T> p{};
+    p.input_fault = true;
+    p.output = clamp(T{});
+    return p;
+  }
+
+  constexpr pi_proposal<T> propose_error(state error, T feed_forward) const noexcept {
+    if (!arith::finite(feed_forward)) return faulty();
+    pi_proposal<T> p{};
+    p.error = error;
+    p.sum = arith::add(arith::add(arith::product(error, kp_), x_), arith::widen(feed_forward));
+    p.unlimited = arith::narrow(p.sum);
+    p.output = clamp(p.unlimited);
+    return p;
+  }
 
   gain_type kp_{};
   gain_type ki_{};
