@@ -12,10 +12,12 @@
 ///
 /// Error against the exact result of the given inputs (proven in tests/test_transforms.cpp):
 ///   q15   correctly rounded: within 0.5 LSB; saturated where the exact result is outside
-///         [-1, 1)
-///   q31   within 1 LSB (Park and inverse Park within 0.5 LSB); saturated likewise
-///   float within 2.4e-7 absolute for inputs in [-1, 1)
-///   double within 4.5e-16 absolute for inputs in [-1, 1)
+///         [-1, 1). (Power-invariant inverse Clarke b and c, with two irrational constants,
+///         within 0.5 + 2^-16 LSB.)
+///   q31   within 1 LSB (Clarke 0.93, Park and inverse Park 0.5); saturated likewise
+///   float within 2.4e-7 absolute for inputs in [-1, 1) (power-invariant results, which
+///         reach 2.12, within 2.4e-7 * max(1, |result|))
+///   double within 4.5e-16 absolute, in the same sense
 /// Fixed-point Clarke forms the exact integer combination of the inputs (2a - b - c,
 /// b - c, ...), multiplies it once by a 32-bit constant and rounds once; Park forms both
 /// products exactly and rounds their sum once.
