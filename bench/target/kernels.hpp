@@ -10,21 +10,27 @@
 ///   - optionally `kind`: `role::step` for a whole current-loop step, which the report
 ///     compares with the textbook baseline (default `role::part`),
 ///   - `types`: the number types it runs for,
-///   - `input<T>`, `output<T>`: plain structs (at most `max_record` bytes),
+///   - `input<T>`, `output<T>`: plain structs,
 ///   - `make<T>(random_bits&)`: one input, drawn from the shared generator,
-///   - `run<T>(const input<T>&)`: the call being timed, inlined into its wrapper.
+///   - `run<T>(input<T>&)`: the call being timed, inlined into its wrapper. A kernel with
+///     state (a regulator, a loop) keeps it in the input and updates it in place, as a
+///     firmware updates its objects in RAM; stateless kernels take `const input<T>&`.
 
+#include <algorithm>
 #include <cstddef>
 #include <cstdint>
 #include <new>
 #include <type_traits>
 
 #include "dqfx/angle.hpp"
+#include "dqfx/current_loop.hpp"
 #include "dqfx/frames.hpp"
 #include "dqfx/number.hpp"
 #include "dqfx/pi_regulator.hpp"
 #include "dqfx/polar.hpp"
 #include "dqfx/sincos.hpp"
+#include "dqfx/svm.hpp"
+#include "dqfx/transforms.hpp"
 #include "textbook.hpp"
 
 #if defined(__GNUC__) && !defined(__clang__)
@@ -100,7 +106,7 @@ struct multiply {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept { return in.a * in.b; }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept { return in.a * in.b; }
 };
 
 struct gain_multiply {
@@ -109,7 +115,7 @@ struct gain_multiply {
   template <class T> struct input { T a; };
   template <class T> using output = T;
   template <class T> static input<T> make(random_bits& r) noexcept { return {any_value<T>(r)}; }
-  template <class T> static output<T> run(const input<T>& in) noexcept {
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
     constexpr auto two_over_sqrt3 = dqfx::gain<T>::from_double(1.1547005383792515);
     return in.a * two_over_sqrt3;
   }
@@ -123,7 +129,7 @@ struct sum_of_products {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r), any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept {
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
     return dqfx::sum_of_products(in.a, in.b, in.c, in.d);
   }
 };
@@ -136,7 +142,7 @@ struct angle_advance {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_angle(r), any_value<T>(r)};
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept {
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
     // Invented scale: per-unit speed 1 is 2*pi*800 rad/s electrical, sampled at 20 kHz.
     constexpr auto rate = dqfx::angle_rate<T>::from_base(5026.548245743669, 1.0 / 20000.0);
     return rate.advance(in.a, in.speed);
@@ -151,7 +157,7 @@ struct sine_cosine {
   template <class T> struct input { dqfx::angle a; };
   template <class T> using output = dqfx::sincos<T>;
   template <class T> static input<T> make(random_bits& r) noexcept { return {any_angle(r)}; }
-  template <class T> static output<T> run(const input<T>& in) noexcept {
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
     return dqfx::sincos_of<T>(in.a);
   }
 };
@@ -164,7 +170,7 @@ struct vector_angle {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept { return dqfx::angle_of(in); }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept { return dqfx::angle_of(in); }
 };
 
 struct vector_magnitude {
@@ -175,7 +181,64 @@ struct vector_magnitude {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept { return dqfx::magnitude(in); }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept { return dqfx::magnitude(in); }
+};
+
+// Frame transforms and modulation.
+
+struct clarke_transform {
+  static constexpr const char* name = "clarke";
+  using types = all_types;
+  template <class T> using input = dqfx::phases<T>;
+  template <class T> using output = dqfx::stationary<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {any_value<T>(r), any_value<T>(r), any_value<T>(r)};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::clarke(in);
+  }
+};
+
+
+struct park_transform {
+  static constexpr const char* name = "park";
+  using types = all_types;
+  template <class T> struct input { dqfx::stationary<T> v; dqfx::sincos<T> angle; };
+  template <class T> using output = dqfx::rotating<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {{any_value<T>(r), any_value<T>(r)}, dqfx::sincos_of<T>(any_angle(r))};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::park(in.v, in.angle);
+  }
+};
+
+struct inverse_park_transform {
+  static constexpr const char* name = "inverse_park";
+  using types = all_types;
+  template <class T> struct input { dqfx::rotating<T> v; dqfx::sincos<T> angle; };
+  template <class T> using output = dqfx::stationary<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {{any_value<T>(r), any_value<T>(r)}, dqfx::sincos_of<T>(any_angle(r))};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::inverse_park(in.v, in.angle);
+  }
+};
+
+struct space_vector_modulation {
+  static constexpr const char* name = "svm";
+  using types = all_types;
+  template <class T> using input = dqfx::stationary<T>;
+  template <class T> using output = dqfx::phases<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Commands relative to the bus up to 0.7 per axis: some beyond the linear range.
+    const T scale = dqfx::from_double<T>(0.7);
+    return {any_value<T>(r) * scale, any_value<T>(r) * scale};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::svm(in).duty;
+  }
 };
 
 // Regulation.
@@ -183,24 +246,65 @@ struct vector_magnitude {
 struct pi_step {
   static constexpr const char* name = "pi_regulator::step";
   using types = all_types;
-  /// The regulator object travels with each input (its gains, limits and integrator),
-  /// as it would sit in memory in a firmware.
   template <class T> struct input {
     dqfx::pi_regulator<T> regulator;
     T error;
   };
-  template <class T> struct output { T value, integral; };
+  template <class T> using output = T;
   template <class T> static input<T> make(random_bits& r) noexcept {
     // Invented tuning: kp 0.8, ki 0.05 per sample, tracking gain 0.5, limits +/-0.9.
     dqfx::pi_regulator<T> regulator{dqfx::pi_parameters{0.8, 0.05, 0.5, -0.9, 0.9}};
     regulator.preload(any_value<T>(r) * dqfx::from_double<T>(0.9));
     return {regulator, any_value<T>(r)};
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept {
-    dqfx::pi_regulator<T> regulator = in.regulator;
-    const T value = regulator.step(in.error);
-    return {value, regulator.integral()};
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    return in.regulator.step(in.error);
   }
+};
+
+// The whole current-loop step, the figure to set beside the textbook baseline.
+
+struct current_step {
+  static constexpr const char* name = "current_loop::step";
+  using types = all_types;
+  template <class T> struct input {
+    dqfx::current_loop<T> loop;
+    dqfx::phases<T> current;
+    dqfx::angle rotor;
+    T speed;
+    dqfx::rotating<T> setpoint;
+    T bus;
+  };
+  template <class T> using output = dqfx::phases<T>;
+
+  /// Invented drive and motor: 12 A and 24 V peak bases, 2*pi*600 rad/s electrical,
+  /// 4 pole pairs; 0.12 ohm, 0.1 mH / 0.14 mH, 3 mWb; 400 Hz bandwidth at 20 kHz.
+  static constexpr dqfx::current_loop_parameters parameters = dqfx::design_current_loop(
+      dqfx::per_unit_base{12.0, 24.0, 3769.9111843077517, 4}, dqfx::pm_motor_data{0.12, 0.1e-3, 0.14e-3, 0.003},
+      2513.2741228718346, 50e-6);
+
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Two measured currents and c = -a - b (no libm: inputs must be the same everywhere),
+    // integrators anywhere, speed, set-points and bus voltage varied: the voltage limit
+    // is reached on a part of the inputs.
+    const double ia = 0.45 * dqfx::to_double(any_value<T>(r));
+    const double ib = 0.45 * dqfx::to_double(any_value<T>(r));
+    input<T> in{dqfx::current_loop<T>{parameters},
+                {dqfx::from_double<T>(ia), dqfx::from_double<T>(ib), dqfx::from_double<T>(-ia - ib)},
+                any_angle(r),
+                dqfx::from_double<T>(0.6 * dqfx::to_double(any_value<T>(r))),
+                {dqfx::from_double<T>(-0.1), dqfx::from_double<T>(0.6 * dqfx::to_double(any_value<T>(r)))},
+                dqfx::from_double<T>(0.8 + 0.2 * dqfx::to_double(any_value<T>(r)))};
+    in.loop.d_regulator().preload(dqfx::from_double<T>(0.3 * dqfx::to_double(any_value<T>(r))));
+    in.loop.q_regulator().preload(dqfx::from_double<T>(0.5 * dqfx::to_double(any_value<T>(r))));
+    return in;
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    const dqfx::current_loop_input<T> period{in.current, dqfx::sincos_of<T>(in.rotor), in.speed,
+                                             in.setpoint, in.bus};
+    return in.loop.step(period).duty;
+  }
+  static constexpr role kind = role::step;
 };
 
 // The comparison figure.
@@ -208,45 +312,49 @@ struct pi_step {
 struct textbook_current_step {
   static constexpr const char* name = "textbook_step";
   using types = type_list<float>;
-  template <class T> using input = textbook_input;
-  template <class T> using output = textbook_output;
+  template <class T> struct input {
+    textbook_loop loop;
+    textbook_measurement measured;
+  };
+  template <class T> using output = textbook_duties;
   template <class T> static input<T> make(random_bits& r) noexcept {
-    textbook_input in{};
-    in.ia = 0.9f * any_value<float>(r);
-    in.ib = 0.9f * any_value<float>(r);
-    in.theta = static_cast<float>(r.next() >> 8) * (6.2831853f / 16777216.0f);
-    in.id_ref = 0.0f;
-    in.iq_ref = 0.5f * any_value<float>(r);
-    in.id_integral = 0.5f * any_value<float>(r);
-    in.iq_integral = 0.5f * any_value<float>(r);
+    input<T> in{};
+    in.loop = {0.5f * any_value<float>(r), 0.5f * any_value<float>(r)};
+    in.measured.ia = 0.9f * any_value<float>(r);
+    in.measured.ib = 0.9f * any_value<float>(r);
+    in.measured.theta = static_cast<float>(r.next() >> 8) * (6.2831853f / 16777216.0f);
+    in.measured.id_ref = 0.0f;
+    in.measured.iq_ref = 0.5f * any_value<float>(r);
     return in;
   }
-  template <class T> static output<T> run(const input<T>& in) noexcept { return textbook_step(in); }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    return textbook_step(in.loop, in.measured);
+  }
   static constexpr role kind = role::baseline;
 };
 
 /// Every kernel the harness times, in report order.
 template <class... K> struct kernel_list {};
-using timed_kernels = kernel_list<textbook_current_step, multiply, gain_multiply, sum_of_products,
+using timed_kernels = kernel_list<textbook_current_step, current_step, multiply, gain_multiply, sum_of_products,
                                   angle_advance, sine_cosine, vector_angle, vector_magnitude,
-                                  pi_step>;
+                                  clarke_transform, park_transform, inverse_park_transform,
+                                  space_vector_modulation, pi_step>;
 
 // The registry: one entry per (kernel, type).
 
-/// Largest input or output record, and the number of inputs per kernel.
-inline constexpr std::size_t max_record = 64;
+/// The number of inputs per kernel (a board short of RAM may build with fewer).
 #ifndef DQFX_TARGET_SAMPLES
 #define DQFX_TARGET_SAMPLES 256
 #endif
 inline constexpr unsigned samples = DQFX_TARGET_SAMPLES;
 
-using call_function = void (*)(const void* input, void* output);
+using call_function = void (*)(void* input, void* output);
 
 struct entry {
   const char* kernel;
   const char* type;
   call_function call;
-  void (*fill)(unsigned char* inputs);  // writes `samples` inputs
+  void (*fill)(unsigned char* inputs);  // writes `samples` inputs, 8-byte aligned
   std::size_t input_size;
   std::size_t output_size;
   bool exact;  // integer arithmetic: the target must match the host bit for bit
@@ -257,12 +365,13 @@ template <class T> constexpr const char* type_name() noexcept {
   return dqfx::number_traits<T>::name;
 }
 
-/// The timed call: reads one input, runs the kernel (inlined here), writes one output.
+/// The timed call: reads one input (and updates it if the kernel has state), runs the
+/// kernel (inlined here), writes one output.
 template <class K, class T>
-DQFX_TARGET_OPAQUE void call(const void* input, void* output) {
+DQFX_TARGET_OPAQUE void call(void* input, void* output) {
   using in_t = typename K::template input<T>;
   using out_t = typename K::template output<T>;
-  ::new (output) out_t(K::template run<T>(*static_cast<const in_t*>(input)));
+  ::new (output) out_t(K::template run<T>(*static_cast<in_t*>(input)));
 }
 
 template <class K, class T>
@@ -280,7 +389,6 @@ template <class K, class T>
 constexpr entry make_entry() noexcept {
   using in_t = typename K::template input<T>;
   using out_t = typename K::template output<T>;
-  static_assert(sizeof(in_t) <= max_record && sizeof(out_t) <= max_record, "raise max_record");
   static_assert(alignof(in_t) <= 8 && alignof(out_t) <= 8, "records are 8-byte aligned");
   constexpr bool exact = dqfx::is_fixed_v<T>;
   // Outputs are compared as bytes: an exact kernel's output must have no padding.
@@ -304,6 +412,18 @@ template <class F>
 void for_each_entry(F f) {
   for_each_kernel(f, timed_kernels{});
 }
+
+template <class K, class... T>
+constexpr std::size_t largest_record(type_list<T...>) noexcept {
+  return std::max({sizeof(typename K::template input<T>)..., sizeof(typename K::template output<T>)...});
+}
+template <class... K>
+constexpr std::size_t largest_record(kernel_list<K...>) noexcept {
+  return std::max({largest_record<K>(typename K::types{})...});
+}
+/// Bytes of the largest input or output record: the harness's buffers hold `samples` of
+/// them.
+inline constexpr std::size_t record_capacity = largest_record(timed_kernels{});
 
 /// FNV-1a, 64 bit (G. Fowler, L. C. Noll, K.-P. Vo; IETF draft-eastlake-fnv): a digest
 /// of the outputs that host and target print and compare.

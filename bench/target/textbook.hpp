@@ -11,16 +11,21 @@
 
 namespace dqfx_target {
 
-struct textbook_input {
-  float ia, ib;                      // phase currents (c = -a - b)
-  float theta;                       // electrical angle in radians, [0, 2*pi)
-  float id_ref, iq_ref;              // current set-points
-  float id_integral, iq_integral;    // regulator states before the step
+/// The loop's state: the two integrators, updated by each step.
+struct textbook_loop {
+  float id_integral, iq_integral;
 };
 
-struct textbook_output {
-  float duty_a, duty_b, duty_c;      // PWM duties in [0, 1]
-  float id_integral, iq_integral;    // regulator states after the step
+/// What the loop reads each period.
+struct textbook_measurement {
+  float ia, ib;           // phase currents (c = -a - b)
+  float theta;            // electrical angle in radians, [0, 2*pi)
+  float id_ref, iq_ref;   // current set-points
+};
+
+/// PWM duties in [0, 1].
+struct textbook_duties {
+  float a, b, c;
 };
 
 namespace textbook {
@@ -41,7 +46,7 @@ inline float pi_step(float error, float& integral) noexcept {
 
 }  // namespace textbook
 
-inline textbook_output textbook_step(const textbook_input& in) noexcept {
+inline textbook_duties textbook_step(textbook_loop& loop, const textbook_measurement& in) noexcept {
   using namespace textbook;
   // Clarke (balanced phases): alpha = a, beta = (a + 2b)/sqrt(3).
   const float i_alpha = in.ia;
@@ -52,11 +57,8 @@ inline textbook_output textbook_step(const textbook_input& in) noexcept {
   const float id = i_alpha * c + i_beta * s;
   const float iq = -i_alpha * s + i_beta * c;
   // Two PI regulators.
-  textbook_output out{};
-  out.id_integral = in.id_integral;
-  out.iq_integral = in.iq_integral;
-  float vd = pi_step(in.id_ref - id, out.id_integral);
-  float vq = pi_step(in.iq_ref - iq, out.iq_integral);
+  float vd = pi_step(in.id_ref - id, loop.id_integral);
+  float vq = pi_step(in.iq_ref - iq, loop.iq_integral);
   // Circular limit of the voltage vector.
   const float m = std::sqrt(vd * vd + vq * vq);
   if (m > v_max) {
@@ -81,10 +83,8 @@ inline textbook_output textbook_step(const textbook_input& in) noexcept {
   const float t1 = sqrt3 * (v_alpha * sin_k[k + 1] - v_beta * cos_k[k + 1]);
   const float t2 = sqrt3 * (cos_k[k] * v_beta - sin_k[k] * v_alpha);
   const float half_t0 = 0.5f * (1.0f - t1 - t2);
-  out.duty_a = half_t0 + t1 * on[k][0] + t2 * on[k + 1][0];
-  out.duty_b = half_t0 + t1 * on[k][1] + t2 * on[k + 1][1];
-  out.duty_c = half_t0 + t1 * on[k][2] + t2 * on[k + 1][2];
-  return out;
+  return {half_t0 + t1 * on[k][0] + t2 * on[k + 1][0], half_t0 + t1 * on[k][1] + t2 * on[k + 1][1],
+          half_t0 + t1 * on[k][2] + t2 * on[k + 1][2]};
 }
 
 }  // namespace dqfx_target

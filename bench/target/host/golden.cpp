@@ -13,15 +13,15 @@
 
 namespace {
 
-alignas(8) unsigned char inputs[dqfx_target::samples * dqfx_target::max_record];
-alignas(8) unsigned char outputs[dqfx_target::samples * dqfx_target::max_record];
+alignas(8) unsigned char inputs[dqfx_target::samples * dqfx_target::record_capacity];
+alignas(8) unsigned char outputs[dqfx_target::samples * dqfx_target::record_capacity];
 
 // The baseline must be a working current loop for the comparison to mean anything: its
 // duties lie in [0, 1] and reproduce the limited voltage vector (inverse Clarke of the
 // switched phase voltages, DC bus = 1, amplitude-invariant).
-bool baseline_is_sound(const dqfx_target::textbook_output* out, unsigned n) {
+bool baseline_is_sound(const dqfx_target::textbook_duties* out, unsigned n) {
   for (unsigned i = 0; i < n; ++i) {
-    const double a = out[i].duty_a, b = out[i].duty_b, c = out[i].duty_c;
+    const double a = out[i].a, b = out[i].b, c = out[i].c;
     for (double d : {a, b, c}) {
       if (!(d >= -1e-6 && d <= 1.0 + 1e-6)) return false;
     }
@@ -40,12 +40,15 @@ int main() {
   for_each_entry([&status](const entry& e) {
     e.fill(inputs);
     std::memset(outputs, 0, sizeof outputs);
-    for (unsigned i = 0; i < samples; ++i) e.call(inputs + i * e.input_size, outputs + i * e.output_size);
+    // Two calls per input, as on the target: the second sees the state the first left.
+    for (unsigned i = 0; i < samples; ++i) {
+      for (int twice = 0; twice < 2; ++twice) e.call(inputs + i * e.input_size, outputs + i * e.output_size);
+    }
     std::printf("digest %s %s %016llx %s\n", e.kernel, e.type,
                 static_cast<unsigned long long>(digest(outputs, samples * e.output_size)),
                 e.exact ? "exact" : "informational");
     if (e.kind == role::baseline) {
-      textbook_output out[samples];
+      textbook_duties out[samples];
       std::memcpy(out, outputs, sizeof out);
       if (!baseline_is_sound(out, samples)) {
         std::printf("error: the textbook baseline produced an invalid duty set\n");
