@@ -106,7 +106,9 @@ struct multiply {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept { return in.a * in.b; }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return in.a * in.b;
+  }
 };
 
 struct gain_multiply {
@@ -170,7 +172,9 @@ struct vector_angle {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept { return dqfx::angle_of(in); }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::angle_of(in);
+  }
 };
 
 struct vector_magnitude {
@@ -181,7 +185,9 @@ struct vector_magnitude {
   template <class T> static input<T> make(random_bits& r) noexcept {
     return {any_value<T>(r), any_value<T>(r)};
   }
-  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept { return dqfx::magnitude(in); }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::magnitude(in);
+  }
 };
 
 // Frame transforms and modulation.
