@@ -142,7 +142,16 @@ constexpr angle angle_of(stationary<T> v) noexcept {
   }
   // Now 0 <= y <= x. Above tan = 0.4, turn by 45 degrees: atan(y/x) = pi/4 - atan((x-y)/(x+y)),
   // so the polynomial only ever sees ratios in [0, 3/7].
-  const bool upper = 5 * y > 2 * x;
+  bool upper = false;
+  if constexpr (std::is_floating_point_v<T>) {
+    if (x > T(1e30)) {  // keep x + y finite for huge (but finite) inputs
+      x *= T(1e-30);
+      y *= T(1e-30);
+    }
+    upper = y > x * T(0.4);
+  } else {
+    upper = 5 * y > 2 * x;  // exact in the wide unsigned type
+  }
   const std::uint32_t part = upper ? recipe::atan_ratio(x - y, x + y) : recipe::atan_ratio(y, x);
   std::uint32_t turn = upper ? (1u << 29) - part : part;
   if (steep) turn = (1u << 30) - turn;
