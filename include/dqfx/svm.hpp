@@ -28,12 +28,16 @@
 ///     hexagon, the centred duties clamped to [0, 1]), which keeps more of the fundamental
 ///     but turns the vector towards the nearest vertex.
 ///
-/// Duties are within 0.5 LSB + 2^-22 LSB of the exact duties of the given command (q15,
-/// q31: with the command relative to the bus, in the linear range) and line-to-line
-/// differences within 1 LSB; with a separate bus voltage the division adds at most 0.4
-/// LSB (q31) and 2^-16 LSB (q15). float: within 2.4e-7, double within 5e-16. For
-/// q15/q31, whose range stops one LSB short of 1, a duty of max() stands for 100 % (the PWM
-/// conversion maps it to the full period) and `clamp_high` ties its phase exactly there.
+/// Error of each duty against the exact duty of the given command in the linear range
+/// (proven in tests/test_svm.cpp against a classic sector and dwell-time modulator):
+///                         q15                q31        float     double
+///   command / bus         0.5 + 2^-22 LSB    0.75 LSB   2.4e-7    5e-16
+///   command and bus       0.5 + 2^-16 LSB    1.25 LSB   4.8e-7    1e-15
+/// Line-to-line differences are within twice these. q15 duties are thus correctly
+/// rounded except within 2^-22 LSB of a tie; q31 carries the 32-bit constant sqrt(3) and
+/// (with a bus) a 32-bit reciprocal. For q15/q31, whose range stops one LSB short of 1, a
+/// duty of max() stands for 100 % (the PWM conversion maps it to the full period) and
+/// `clamp_high` ties its phase exactly there.
 ///
 /// Bad input: a NaN or infinite float command or bus voltage, a bus voltage that is
 /// zero or negative, or a command so large that its phase references overflow the float
@@ -93,14 +97,20 @@ constexpr E clamp_symmetric(E x, E limit) noexcept {
   return x > limit ? limit : (x < -limit ? -limit : x);
 }
 
-/// Sector 1..6 from the ordering of the phase references. Ties go to the cyclic
-/// successor (b over a, c over b, a over c), which puts every boundary angle into the
-/// sector that starts there and makes the six sectors a partition.
+/// Whether x counts as above y in the phase ordering. Equal references sit on a sector
+/// boundary; counting x above exactly when the third phase z is above both puts every
+/// boundary angle into the sector that starts there, so the sectors form a partition.
+template <class E>
+constexpr unsigned above(E x, E y, E z) noexcept {
+  return (x > y || (x == y && z > x)) ? 1u : 0u;
+}
+
+/// Sector 1..6 (sector k covers [60(k-1), 60k) degrees) from the phase ordering.
 template <class E>
 constexpr std::uint8_t sector_of(E va, E vb, E vc) noexcept {
-  const unsigned a_over_b = va > vb ? 1u : 0u;
-  const unsigned b_over_c = vb > vc ? 1u : 0u;
-  const unsigned c_over_a = vc > va ? 1u : 0u;
+  const unsigned a_over_b = above(va, vb, vc);
+  const unsigned b_over_c = above(vb, vc, va);
+  const unsigned c_over_a = above(vc, va, vb);
   constexpr std::uint8_t table[8] = {1, 4, 2, 3, 6, 5, 1, 1};
   return table[a_over_b * 4 + b_over_c * 2 + c_over_a];
 }
