@@ -16,6 +16,14 @@
 /// the per-unit inductances and flux make w*L*i and w*psi per-unit voltages. The
 /// feed-forward uses the measured currents.
 ///
+/// Error bounds against a textbook double loop given the same inputs (sine and cosine
+/// included), over 20,000 periods of a closed-loop scenario with 2,000 voltage-limited
+/// periods (tests/test_current_loop.cpp): the limited d/q voltage within 4 LSB (q15),
+/// 128 LSB (q31), 4 eps (float), 16 eps (double); the duties, which also carry the
+/// division by the bus voltage (0.36 pu at its lowest there), within 16 LSB, 512 LSB,
+/// 8 eps, 32 eps. The limited vector never leaves the circle of radius
+/// modulation_limit * vdc / sqrt(3) (fixed point: checked on exact integer squares).
+///
 /// Bad input: a NaN or infinite float input, or a bus voltage <= 0 (any type), leaves
 /// both regulators untouched and gives zero voltage, 50% duties and `fault`.
 

@@ -26,6 +26,19 @@
 /// Limiting that happens outside the regulator (a voltage-vector limit shared by two
 /// regulators) is fed back through the two-phase form `propose` + `commit`; `step` is
 /// both at once with the regulator's own limits.
+///
+/// Error bounds (tests/test_pi_regulator.cpp, against a textbook double PI):
+///   one step: kp*e + x + ff with the gains as held, rounded once: q15 and q31 within
+///   0.5 LSB; float within 1.5 ulp of the size of the terms; double likewise.
+///   closed loop, 100,000 samples with saturation episodes and run-time limit changes:
+///   back-calculation within 3 LSB (q15), 16 LSB (q31), 8 eps (float), 4 eps (double).
+///   Conditional integration switches, so where the two sit on either side of a limit
+///   for one sample they part by up to one integrator step ki*|e| and come together
+///   again with the loop (0.04 to 0.12 % of samples in the test); elsewhere the same bounds.
+///
+/// Bad input: a NaN or infinite float error, feed-forward or applied value leaves the
+/// integrator unchanged, outputs 0 clamped into the limits and raises `input_fault()`;
+/// limits in the wrong order: see the constructor and `set_limits`.
 
 #include <cstdint>
 #include <type_traits>
