@@ -55,10 +55,10 @@ def fit_atan(ncoef, npts=300, iters=60):
 
 def q(x, b): return int(mp.nint(x * 2**b))
 units = mp.mpf(2)**31 / mp.pi   # binary-angle units per radian
-for name, kind, n in [('q31', 'sin', 5), ('float', 'sin', 4), ('double', 'sin', 6)]:
+for name, kind, n in [('q31', 'sin', 5), ('float', 'sin', 4), ('double', 'sin', 7)]:
     c, e = fit(kind, n)
     print(name, 'sin P', 'max error', mp.nstr(e, 3), [q(x, 33) for x in c] if name == 'q31' else [mp.nstr(x, 20) for x in c])
-for name, n in [('q31', 5), ('float', 5), ('double', 6)]:
+for name, n in [('q31', 5), ('float', 5), ('double', 7)]:
     c, e = fit('cos', n, fix_one=True)
     print(name, 'cos Q', 'max error', mp.nstr(e, 3), [q(x, 33) for x in c] if name == 'q31' else [mp.nstr(x, 20) for x in c])
 for n in [4, 6, 8]:
