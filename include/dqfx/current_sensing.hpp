@@ -9,7 +9,9 @@
 /// Codes are read relative to mid-scale and the full ADC range: x = (code - 2^(bits-1))
 /// / 2^bits, in [-1/2, 1/2), so that a reading minus its offset, x - o, stays in (-1, 1)
 /// and the conversion current = (x - o) * gain is one rounding (q15: exact x for ADCs of
-/// up to 15 bits; a 16-bit code is rounded to 15).
+/// up to 15 bits; a 16-bit code is rounded to 15). Error against the exact
+/// (x - o) * gain (tests/test_current_sensing.cpp): q15 0.5 + 2^-16 LSB, q31 1 LSB, float
+/// and double one rounding of the product (the gain's own rounding included).
 
 #include <cstdint>
 
