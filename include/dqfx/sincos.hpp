@@ -5,7 +5,7 @@
 ///
 /// Error against the exact sine and cosine of the exact angle (proven in
 /// tests/test_sincos.cpp, figures printed by the accuracy report):
-///   q15   within 1 LSB (0.86 LSB except where |exact| > max(), which saturates)
+///   q15   within 1 LSB (0.91 LSB except where |exact| > max(), which saturates)
 ///   q31   within 2 LSB
 ///   float within 1.2e-7 absolute
 ///   double within 1e-12 absolute
@@ -33,14 +33,16 @@ constexpr double taylor_sin(double x) noexcept {
 }
 
 /// Quarter-wave sine, 256 intervals, unsigned 2^-16 units (one bit finer than q15, which
-/// keeps the stored rounding to 0.25 q15 LSB). Entry 256 is sin(pi/2) = 65536 clamped to
-/// 65535; entry 257 pads the table so the cosine of angle 0 may read one past.
+/// keeps the stored rounding to 0.25 q15 LSB). Entries are capped at 65534 (only the last
+/// three are affected) so that an interpolated value can never round up to 1.0: the
+/// kernel needs no clamp, and the cap costs no accuracy because 1.0 saturates anyway.
+/// Entry 257 pads the table so the cosine of angle 0 may read one past.
 constexpr std::array<std::uint16_t, 258> make_quarter_sine_table() noexcept {
   std::array<std::uint16_t, 258> t{};
   for (std::size_t i = 0; i < t.size(); ++i) {
     const double v = taylor_sin(static_cast<double>(i) * (3.14159265358979323846 / 512.0));
     const double scaled = v * 65536.0 + 0.5;
-    t[i] = scaled >= 65535.0 ? std::uint16_t{65535} : static_cast<std::uint16_t>(scaled);
+    t[i] = scaled >= 65534.0 ? std::uint16_t{65534} : static_cast<std::uint16_t>(scaled);
   }
   return t;
 }
@@ -58,8 +60,9 @@ template <> struct quadrant_sincos<q15> {
     const std::uint32_t hi = quarter_sine_table[index + 1];
     // Exact in 32 bits: lo*2^16 + (hi-lo)*fraction <= hi*2^16 < 2^32.
     const std::uint32_t v = (lo << 16) + (hi - lo) * fraction;
-    const std::uint32_t rounded = ((v >> 16) + 1) >> 1;  // 2^-32 -> 2^-15, to nearest
-    return static_cast<std::int16_t>(rounded > 32767u ? 32767u : rounded);
+    // 2^-32 -> 2^-15, to nearest. v < 65534 * 2^16, so adding the half cannot wrap and
+    // the result is at most 32767.
+    return static_cast<std::int16_t>((v + 0x10000u) >> 17);
   }
   static constexpr sincos<q15> eval(std::uint32_t pos) noexcept {
     return {q15::from_raw(sine(pos)), q15::from_raw(sine((1u << 30) - pos))};
@@ -67,23 +70,33 @@ template <> struct quadrant_sincos<q15> {
 };
 
 /// Minimax polynomials on one octant: with u = x / (pi/4) in [0, 1] and z = u^2,
-/// sin x = u * P(z) and cos x = Q(z). Coefficients from cmake/scripts/fit_trig.py.
+/// sin x = u * P(z) and cos x = Q(z). Coefficients from cmake/scripts/fit_trig.py
+/// (the q31 ones scaled as noted and rounded to integers).
 template <> struct quadrant_sincos<q31> {
-  // P and Q at 2^-33 (two guard bits above q31); P[0] and Q[0..1] need 64 bits.
-  static constexpr std::int64_t P[] = {6746518852, -693598665, 21392309, -314146, 2651};
-  static constexpr std::int64_t Q[] = {8589934592, -2649351743, 136187638, -2799821, 30334};
+  static constexpr std::int32_t high(std::int32_t a, std::int32_t b) noexcept {
+    return mul_high_round(a, b);
+  }
+  static constexpr std::uint32_t high(std::uint32_t a, std::uint32_t b) noexcept {
+    return static_cast<std::uint32_t>((std::uint64_t{a} * b + (std::uint64_t{1} << 31)) >> 32);
+  }
+  // Each coefficient carries two more fraction bits than the next lower one (P[k] at
+  // 2^-(32+2k), Q[k] at 2^-(30+2k), Q[1] at 2^-32), so that every Horner step is one
+  // high-word product by z (at 2^-30) and one add, all in 32 bits.
+  static constexpr std::uint32_t P0 = 3373259426u;
+  static constexpr std::int32_t P[] = {0, -1387197330, 171138468, -10052675, 339269};
+  static constexpr std::int32_t Q[] = {0, -1324675872, 272375277, -22398564, 970686};
 
   /// sin and cos of r * (pi/4) / 2^29, r in [0, 2^29].
   static constexpr sincos<q31> octant(std::uint32_t r) noexcept {
-    const std::int64_t u = std::int64_t{r} * 2;               // 2^-30, exact
-    const std::int64_t z = round_shift(u * u, 30);             // 2^-30
-    std::int64_t s = P[4];
-    for (int k = 3; k >= 0; --k) s = P[k] + round_shift(s * z, 30);
-    std::int64_t c = Q[4];
-    for (int k = 3; k >= 1; --k) c = Q[k] + round_shift(c * z, 30);
-    // u * s < 2^30 * 0.79 * 2^33 < 2^63; cos(0) = 1 saturates to max().
-    const std::int64_t sine = round_shift(u * s, 32);
-    const std::int64_t cosine = (std::int64_t{1} << 31) + round_shift(c * z, 32);
+    const std::uint32_t u = r << 2;                                  // 2^-31, exact, <= 2^31
+    const auto z = static_cast<std::int32_t>(high(u, u));            // 2^-30
+    const std::int32_t s = P[1] + high(P[2] + high(P[3] + high(P[4], z), z), z);
+    const std::int32_t c = Q[1] + high(Q[2] + high(Q[3] + high(Q[4], z), z), z);
+    // sin = u * (P0 + z * s); cos = 1 + z * c, the last product kept to 2^-31.
+    const std::uint32_t sine = high(u, static_cast<std::uint32_t>(std::int64_t{P0} + high(s, z)));
+    const std::int64_t cosine =
+        (std::int64_t{1} << 31) + ((std::int64_t{c} * z + (std::int64_t{1} << 30)) >> 31);
+    // cos(0) = 1 saturates to max().
     return {q31::from_raw(static_cast<std::int32_t>(sine)),
             q31::from_raw(static_cast<std::int32_t>(cosine > INT32_MAX ? INT32_MAX : cosine))};
   }
@@ -143,13 +156,18 @@ template <class T>
 constexpr sincos<T> sincos_of(angle a) noexcept {
   static_assert(is_number_v<T>, "dqfx::sincos_of supports q15, q31, float and double");
   const std::uint32_t quadrant = a.raw() >> 30;
-  const sincos<T> f = detail::quadrant_sincos<T>::eval(a.raw() & 0x3FFFFFFFu);
-  switch (quadrant) {
-    case 0: return {f.sin, f.cos};
-    case 1: return {f.cos, -f.sin};
-    case 2: return {-f.sin, -f.cos};
-    default: return {-f.cos, f.sin};
+  sincos<T> r = detail::quadrant_sincos<T>::eval(a.raw() & 0x3FFFFFFFu);
+  // Quadrants 1 and 3 turn the first-quadrant pair by 90 degrees, 2 and 3 by 180.
+  if (quadrant & 1u) {
+    const T s = r.sin;
+    r.sin = r.cos;
+    r.cos = -s;
   }
+  if (quadrant & 2u) {
+    r.sin = -r.sin;
+    r.cos = -r.cos;
+  }
+  return r;
 }
 
 }  // namespace dqfx
