@@ -174,6 +174,13 @@ class encoder {
   constexpr void reject() noexcept {
     jump_ = true;
     fault_ = true;
+    // Keep the window's time base: this sample moved nothing we believe; the next good
+    // reading brings the counts.
+    if (started_) {
+      const T held = counting_speed_;
+      measure_counting();
+      counting_speed_ = held;
+    }
   }
 
   constexpr void start(std::uint32_t count, std::uint32_t edge_ticks) noexcept {
