@@ -221,10 +221,12 @@ long double exact_step(long double speed, const rate_case& c) {
 template <class T> long double step_bound(long double exact) {
   if constexpr (dqfx::is_fixed_v<T>) {
     return 1.0L + std::ldexp(1.0L, -20);  // 1/2 scale quantisation * |speed| + 1/2 rounding
-  } else if constexpr (std::is_same_v<T, float>) {
-    return 0.5L + std::fabs(exact) * (std::ldexp(1.0L, -24) + std::ldexp(1.0L, -50));
   } else {
-    return 0.5L + std::fabs(exact) * std::ldexp(1.0L, -50);
+    // Computed in T: the scale's rounding, the product's and the half-unit addition's,
+    // each at most 2^-p relative (p = 24 or 53 significant bits), then the final
+    // truncation of the rounded value (1/2 unit).
+    constexpr int p = std::numeric_limits<T>::digits;
+    return 0.5L + std::fabs(exact) * 3 * std::ldexp(1.0L, -p) * (1 + std::ldexp(1.0L, -p));
   }
 }
 

@@ -86,6 +86,8 @@ class angle_rate {
     return angle_rate{half_turns};
   }
   /// Signed angle step for one sample at `speed` (per unit); NaN gives no step.
+  /// Error in binary-angle units: q15/q31 within 1 + 2^-20; float/double within
+  /// 1/2 + 3 * 2^-p * |step| (p = 24 or 53), the arithmetic being done in T itself.
   constexpr std::int32_t step_raw(T speed) const noexcept {
     if constexpr (is_fixed_v<T>) {
       // speed in [-1, 1) times a half-turn fraction in [-1, 1): a q31 product, scaled
@@ -95,8 +97,15 @@ class angle_rate {
           std::int64_t{speed.raw()} * (std::int64_t{1} << (31 - T::fraction_bits))));
       return (s * scale_).raw();
     } else {
-      const double half_turns = static_cast<double>(speed) * static_cast<double>(scale_);
-      return from_double<q31>(half_turns).raw();
+      // In T itself (a float stays single precision, cheap on a single-precision FPU);
+      // scale_ is in binary-angle units per unit speed. Rounded half away from zero,
+      // saturated to half a turn either way, NaN gives no step.
+      const T units = speed * scale_;
+      constexpr T limit = T(2147483648.0);
+      if (!(units == units)) return 0;
+      if (units >= limit) return INT32_MAX;
+      if (units < -limit) return INT32_MIN;
+      return static_cast<std::int32_t>(units < T(0) ? units - T(0.5) : units + T(0.5));
     }
   }
   /// The angle one sample later at `speed`.
@@ -107,9 +116,11 @@ class angle_rate {
   }
 
  private:
+  // Fixed point: half turns per sample at speed 1.0, as a q31. Floating point: binary-
+  // angle units per sample at speed 1.0.
   using scale_type = std::conditional_t<is_fixed_v<T>, q31, T>;
   constexpr explicit angle_rate(double half_turns) noexcept
-      : scale_{from_double<scale_type>(half_turns)} {}
+      : scale_{from_double<scale_type>(is_fixed_v<T> ? half_turns : half_turns * 2147483648.0)} {}
   scale_type scale_{};
 };
 
