@@ -115,11 +115,13 @@ TEST_CASE_TEMPLATE("hall_sensor: interpolation error below 5 electrical degrees 
     CHECK(to_double(measured) == doctest::Approx(speed).epsilon(2e-3));
   }
   // With the nominal (evenly spaced) table instead of the learned one, the sensors'
-  // misplacement (up to 3 degrees, invented) shows in the angle.
+  // misplacement shows: an edge is off by up to 3 degrees and a sector's width by up to
+  // 5.5 degrees, which also scales the speed by up to 10 %; the angle error stays within
+  // their sum, 8.5 degrees. The 5-degree figure needs a learned (or measured) table.
   for (double speed : {0.05, 0.5}) {
     const double worst = constant_speed_error<T>(speed, true, nullptr, 20000, true);
     MESSAGE(name<T>(), " at ", speed, " pu, capture timer, nominal table: max angle error ", worst, " deg");
-    CHECK(worst < 5.0);
+    CHECK(worst < 8.5);
   }
   // Timed by the sample clock, edges are placed to within one sample: 18 degrees per sample
   // at 1 pu, so below 5 degrees up to about 0.12 pu.
