@@ -33,6 +33,7 @@
 /// the flux state holds, the speed holds its last good value and the angle advances at it.
 
 #include <cstdint>
+#include <limits>
 #include <type_traits>
 
 #include "dqfx/angle.hpp"
@@ -320,9 +321,11 @@ class open_loop_start {
   /// A small per-sample increment without rounding it to T (q15/q31: extended bits).
   static constexpr extended<T> extended_of(double v) noexcept {
     if constexpr (is_fixed_v<T>) {
+      using raw = decltype(extended<T>{}.raw());
       constexpr double scale = static_cast<double>(std::int64_t{1} << extended<T>::fraction_bits);
       const double x = v * scale;
-      return extended<T>::from_raw(x > 0.0 && x < 9e18 ? detail::round_half_away(x) : 0);
+      const double most = static_cast<double>(std::numeric_limits<raw>::max()) / 2;
+      return extended<T>::from_raw(static_cast<raw>(x > 0.0 ? detail::round_half_away(x < most ? x : most) : 0));
     } else {
       return extended<T>{static_cast<T>(v > 0.0 ? v : 0.0)};
     }
