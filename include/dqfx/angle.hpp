@@ -102,9 +102,14 @@ class angle_rate {
       // saturated to half a turn either way, NaN gives no step.
       const T units = speed * scale_;
       constexpr T limit = T(2147483648.0);
-      if (!(units == units)) return 0;
-      if (units >= limit) return INT32_MAX;
-      if (units < -limit) return INT32_MIN;
+      if (!(units == units)) {
+        detail::note_saturation();
+        return 0;
+      }
+      if (units >= limit || units < -limit) {
+        detail::note_saturation();
+        return units < T(0) ? INT32_MIN : INT32_MAX;
+      }
       return static_cast<std::int32_t>(units < T(0) ? units - T(0.5) : units + T(0.5));
     }
   }

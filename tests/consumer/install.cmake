@@ -15,10 +15,11 @@ foreach(file include/dqfx/fixed.hpp include/dqfx/number.hpp include/dqfx/angle.h
     message(FATAL_ERROR "not installed: ${file}\n${out}")
   endif()
 endforeach()
-# Only the library is installed: no test, bench or example files, no binaries.
+# Only the library (and its host-only simulator headers) is installed: no test, bench or
+# example files, no binaries.
 file(GLOB_RECURSE installed RELATIVE ${PREFIX} ${PREFIX}/*)
 foreach(file IN LISTS installed)
-  if(NOT file MATCHES "^(include/dqfx/|share/dqfx/cmake/)")
+  if(NOT file MATCHES "^(include/dqfx/|include/dqfx_sim/|share/dqfx/cmake/)")
     message(FATAL_ERROR "unexpected installed file: ${file}")
   endif()
 endforeach()
