@@ -31,6 +31,7 @@
 #include <cstdint>
 #include <type_traits>
 
+#include "dqfx/detail/square_root.hpp"
 #include "dqfx/frames.hpp"
 #include "dqfx/gain_design.hpp"
 #include "dqfx/number.hpp"
@@ -97,27 +98,22 @@ template <class T> struct current_loop_output {
 
 namespace detail {
 
-/// Largest integer whose square does not exceed n (bit by bit, fixed iteration count).
-template <class U>
-constexpr U floor_sqrt(U n) noexcept {
-  U root = 0;
-  for (U bit = U{1} << (sizeof(U) * 8 - 2); bit != 0; bit >>= 2) {
-    if (n >= root + bit) {
-      n -= root + bit;
-      root = (root >> 1) + bit;
-    } else {
-      root >>= 1;
-    }
-  }
-  return root;
-}
-
 /// The per-type parts of the loop: the room left for vq in the circle (rounded down so
 /// the limited vector never leaves it) and the input check.
 template <class T, class = void> struct loop_recipe {
   static T room(T radius, T d) noexcept {
+    constexpr T shrink = T{1} - std::numeric_limits<T>::epsilon();
+    // The squares of a radius far from 1 leave the normal range (float: below 2^-50 or
+    // from 2^60 on) and lose the circle: scale by the radius there instead.
+    constexpr bool single = std::is_same_v<T, float>;
+    constexpr T small = single ? T(0x1p-50) : T(0x1p-400), big = single ? T(0x1p60) : T(0x1p500);
+    if (!(radius > small && radius < big)) {
+      if (!(radius > T{0})) return T{0};
+      const T t = d / radius;
+      return radius * std::sqrt((T{1} - t) * (T{1} + t)) * shrink;
+    }
     const T r2 = radius * radius - d * d;
-    return r2 > T{0} ? std::sqrt(r2) * (T{1} - std::numeric_limits<T>::epsilon()) : T{0};
+    return r2 > T{0} ? std::sqrt(r2) * shrink : T{0};
   }
   static constexpr bool finite(T v) noexcept { return v - v == v - v; }
 };
@@ -131,7 +127,7 @@ template <class T> struct loop_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
   static constexpr T room(T radius, T d) noexcept {
     const uwide r = static_cast<uwide>(radius.raw());
     const uwide m = static_cast<uwide>(d.raw() < 0 ? -wide{d.raw()} : wide{d.raw()});
-    return T::saturated(static_cast<wide>(floor_sqrt<uwide>(r * r - m * m)));
+    return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(r * r - m * m))));
   }
   static constexpr bool finite(T) noexcept { return true; }
 };

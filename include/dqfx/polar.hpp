@@ -13,13 +13,15 @@
 ///   q15 and q31 correctly rounded (within 0.5 LSB), saturating to max() when the length
 ///   is 1 or more (e.g. (-1, -1) gives max()); float and double within 2 ulp. A NaN
 ///   component gives NaN and an infinite one +infinity; finite float inputs whose
-///   squares overflow are handled by std::hypot rather than returning infinity.
+///   squares overflow or underflow are handled by std::hypot rather than returning
+///   infinity or zero.
 
 #include <cmath>
 #include <cstdint>
 #include <type_traits>
 
 #include "dqfx/angle.hpp"
+#include "dqfx/detail/square_root.hpp"
 #include "dqfx/frames.hpp"
 #include "dqfx/number.hpp"
 
@@ -100,26 +102,6 @@ struct polar_recipe<F, std::enable_if_t<std::is_floating_point_v<F>>> {
   }
 };
 
-/// Integer square root rounded to nearest, for any 32/64-bit unsigned value, by the
-/// bit-by-bit method: a fixed number of iterations, no division, no table.
-template <class U>
-constexpr U rounded_sqrt(U n) noexcept {
-  U root = 0;
-  U bit = U{1} << (sizeof(U) * 8 - 2);
-  U rest = n;
-  while (bit != 0) {
-    if (rest >= root + bit) {
-      rest -= root + bit;
-      root = (root >> 1) + bit;
-    } else {
-      root >>= 1;
-    }
-    bit >>= 2;
-  }
-  // floor(sqrt(n)) = root, rest = n - root^2; round up when n >= (root + 1/2)^2.
-  return rest > root ? root + 1 : root;
-}
-
 }  // namespace detail
 
 /// The angle of `v` (atan2(beta, alpha)) as a binary angle; exact quadrant wrap.
@@ -165,12 +147,16 @@ template <class T>
 constexpr T magnitude(stationary<T> v) noexcept {
   static_assert(is_number_v<T>, "dqfx::magnitude supports q15, q31, float and double");
   if constexpr (std::is_floating_point_v<T>) {
-    const T r = std::sqrt(v.alpha * v.alpha + v.beta * v.beta);
-    // Finite inputs whose squares overflow take the careful (slower) route.
-    if (r > std::numeric_limits<T>::max() && std::isfinite(v.alpha) && std::isfinite(v.beta)) {
+    const T squares = v.alpha * v.alpha + v.beta * v.beta;
+    // Finite inputs whose squares overflow, or underflow below the normal range (where
+    // they lose bits, down to zero), take the careful (slower) route.
+    constexpr T smallest = std::numeric_limits<T>::min() / std::numeric_limits<T>::epsilon();
+    const bool overflow = squares > std::numeric_limits<T>::max();
+    const bool underflow = squares < smallest && (v.alpha != T{0} || v.beta != T{0});
+    if ((overflow || underflow) && std::isfinite(v.alpha) && std::isfinite(v.beta)) {
       return std::hypot(v.alpha, v.beta);
     }
-    return r;
+    return std::sqrt(squares);
   } else {
     using recipe = detail::polar_recipe<T>;
     const auto x = recipe::magnitude_of(v.alpha);
