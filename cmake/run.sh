@@ -6,8 +6,8 @@ set -eu
 cd "$(dirname "$0")/.."
 
 # Packages the demo needs, then the extra ones the full test suite needs.
-demo_packages="g++ cmake ninja-build doctest-dev libbenchmark-dev gnuplot-nox"
-test_packages="$demo_packages clang libmpfr-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm"
+demo_packages="g++ cmake ninja-build gnuplot-nox"
+test_packages="$demo_packages doctest-dev libbenchmark-dev clang libmpfr-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm"
 
 install_missing() {
   missing=""
@@ -29,9 +29,9 @@ install_missing() {
 case "${1:-}" in
   demo)
     install_missing $demo_packages
-    cmake --preset host >/dev/null
-    cmake --build --preset host --target dqfx_demo
-    ./build/host/examples/dqfx_demo
+    cmake --preset demo >/dev/null
+    cmake --build --preset demo
+    ./build/demo/examples/dqfx_demo
     ;;
   test)
     install_missing $test_packages
