@@ -17,7 +17,10 @@
 ///     time taking td/T of duty away for i > 0 and adding it for i < 0;
 ///   - `switched`: the period is cut at every switching edge and each piece integrated
 ///     with the rail voltages it really has (the current ripple appears).
-/// A diode current that reaches zero during the dead time (the leg then floats) and
+/// Near zero current the diode's pull is made continuous: within +/- `current_band` the
+/// dead-time voltage moves linearly between the rails (standing for the slow commutation
+/// of a small current by the switches' capacitances). Without it (band 0) a current
+/// crossing zero chatters between the rails. A leg that floats with zero current and
 /// edges pushed past the end of the period by the dead time are not modelled.
 ///
 /// The DC bus: an ideal source behind a resistance, with an optional capacitor across
@@ -40,6 +43,7 @@ enum class inverter_model { average, switched };
 struct inverter_parameters {
   double pwm_frequency = 20e3;  ///< Hz
   double dead_time = 0.0;       ///< s
+  double current_band = 0.1;    ///< A, see the file comment; 0 for a hard switch
   inverter_model model = inverter_model::average;
 };
 
@@ -61,6 +65,8 @@ inline status check(const inverter_parameters& p, const bus_parameters& b) {
               p.pwm_frequency))
       .also(need(std::isfinite(p.dead_time) && p.dead_time >= 0 && p.dead_time * p.pwm_frequency < 0.5,
                  "inverter: dead_time must be >= 0 s and shorter than half a PWM period", p.dead_time))
+      .also(need(std::isfinite(p.current_band) && p.current_band >= 0, "inverter: current_band must be >= 0 A",
+                 p.current_band))
       .also(need(std::isfinite(b.source_voltage) && b.source_voltage > 0, "bus: source_voltage must be positive in V",
                  b.source_voltage))
       .also(need(std::isfinite(b.source_resistance) && b.source_resistance >= 0, "bus: source_resistance must be >= 0 ohm",
@@ -97,19 +103,25 @@ class inverter {
   }
   three_phase duty() const noexcept { return {duty_[0], duty_[1], duty_[2]}; }
 
+  /// Which way the diodes pull for a current: +1 (to the lower rail) for i > 0, -1
+  /// for i < 0, linear within the current band.
+  double diode_pull(double current) const noexcept {
+    const double band = p_.current_band;
+    if (band > 0) return current >= band ? 1.0 : (current <= -band ? -1.0 : current / band);
+    return current > 0 ? 1.0 : (current < 0 ? -1.0 : 0.0);
+  }
+
   /// Average model: phase voltages from the lower rail for these currents.
   three_phase average_voltage(const three_phase& i, double vdc) const noexcept {
     const double loss = p_.dead_time * p_.pwm_frequency;
-    auto v = [&](double d, double current) {
-      return vdc * clamp01(d - (current > 0 ? loss : (current < 0 ? -loss : 0.0)));
-    };
+    auto v = [&](double d, double current) { return vdc * clamp01(d - loss * diode_pull(current)); };
     return {v(duty_[0], i.a), v(duty_[1], i.b), v(duty_[2], i.c)};
   }
 
   /// Switched model: phase voltages for the legs' states and these currents.
-  static three_phase switched_voltage(const std::array<leg, 3>& legs, const three_phase& i, double vdc) noexcept {
+  three_phase switched_voltage(const std::array<leg, 3>& legs, const three_phase& i, double vdc) const noexcept {
     auto v = [&](leg l, double current) {
-      return l == leg::high || (l == leg::dead && current < 0) ? vdc : 0.0;
+      return l == leg::high ? vdc : (l == leg::low ? 0.0 : vdc * (1 - diode_pull(current)) / 2);
     };
     return {v(legs[0], i.a), v(legs[1], i.b), v(legs[2], i.c)};
   }

@@ -88,6 +88,22 @@ inline status check(const plant_parameters& p) {
   const double we = speed_limit_of(p) * p.motor.pole_pairs;
   s = check_step(p.motor, h, we);
   if (!s) return status::failure(s.message() + "; steps_per_period is " + text(p.steps_per_period));
+  // The dead-time current band acts as a resistance Vdc*td/T/band per phase (average
+  // model) or Vdc/(2*band) during a dead-time piece of length td (switched model).
+  if (p.inverter.dead_time > 0 && p.inverter.current_band > 0) {
+    const double l = p.motor.ld < p.motor.lq ? p.motor.ld : p.motor.lq;
+    const double vdc = p.bus.source_voltage;
+    const bool average = p.inverter.model == inverter_model::average;
+    const double rate = average ? vdc * p.inverter.dead_time * p.inverter.pwm_frequency / p.inverter.current_band / l
+                                : vdc / (2 * p.inverter.current_band) / l;
+    const double step = average ? h : std::min(h, p.inverter.dead_time);
+    if (step * rate > stable_step_radius)
+      return status::failure("inverter: current_band " + text(p.inverter.current_band) +
+                             " A is too narrow for stable integration of the dead time (step " + text(step) +
+                             " s, rate " + text(rate) + " 1/s): widen it to at least " +
+                             text(p.inverter.current_band * step * rate / stable_step_radius) +
+                             " A or raise steps_per_period");
+  }
   if (p.bus.capacitance > 0) {
     const double l = p.motor.ld < p.motor.lq ? p.motor.ld : p.motor.lq;
     const double rate = 1.0 / (p.bus.source_resistance * p.bus.capacitance) + std::sqrt(2.0 / (l * p.bus.capacitance));
@@ -191,7 +207,7 @@ class plant {
   /// Phase voltages from the lower rail for the present switch pattern: `legs` in the
   /// switched model, the duties in the average model.
   three_phase phase_voltages(const std::array<leg, 3>* legs, const three_phase& i, double vdc) const noexcept {
-    return legs ? inverter::switched_voltage(*legs, i, vdc) : inverter_.average_voltage(i, vdc);
+    return legs ? inverter_.switched_voltage(*legs, i, vdc) : inverter_.average_voltage(i, vdc);
   }
   /// The inverter's input current: the high-side share of each phase current.
   static double bus_current(const three_phase& i, const three_phase& v, double vdc) noexcept {
