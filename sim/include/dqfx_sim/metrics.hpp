@@ -20,7 +20,7 @@
 namespace dqfx::sim {
 
 struct step_figures {
-  double initial = NAN;             ///< the signal just before the step
+  double initial = NAN;             ///< the signal just before the step (or at it, if first)
   double target = NAN;
   double rise_time = NAN;           ///< s; NaN if it never reached 90%
   double overshoot = NAN;           ///< fraction of the step, >= 0
@@ -48,7 +48,8 @@ inline step_figures step_response(const std::vector<record>& rows, signal s, dou
       first = k;
     }
   }
-  if (first == rows.size() || std::isnan(f.initial)) return f;
+  if (first == rows.size()) return f;
+  if (std::isnan(f.initial)) f.initial = rows[first].*s;  // the recording starts with the step
   const double size = target - f.initial, sign = size < 0 ? -1.0 : 1.0;
   if (size == 0) return f;
   double t10 = NAN, t90 = NAN, peak = 0, last_out = step_time, sum = 0;
