@@ -210,7 +210,7 @@ TEST_CASE("sim figures: a first-order step response") {
 
 // Second-order step with damping zeta: overshoot exp(-zeta*pi/sqrt(1-zeta^2)) (Ogata,
 // "Modern Control Engineering").
-TEST_CASE("sim figures: second-order overshoot, ripple of a sine, angle error") {
+TEST_CASE("sim figures: second-order overshoot, ripple of a sine, recovery from a dip, angle error") {
   static const double zeta = 0.3, wn = 200.0;
   const auto rows = synthetic(
       [](double t) {
@@ -233,6 +233,20 @@ TEST_CASE("sim figures: second-order overshoot, ripple of a sine, angle error") 
   CHECK(s.mean == doctest::Approx(5.0).epsilon(1e-6));
   CHECK(s.rms == doctest::Approx(0.5 / std::sqrt(2.0)).epsilon(1e-4));
   CHECK(s.peak_to_peak == doctest::Approx(1.0).epsilon(1e-4));
+  // A dip of 0.5 below 5 that decays as exp(-t/0.02) after t = 0.1: back within 2% of 5
+  // (0.1) when 0.5*exp(-t/0.02) = 0.1, t = 0.02*ln 5.
+  std::vector<record> dip;
+  for (int k = 0; k < 10000; ++k) {
+    record r;
+    r.time = k * 1e-4;
+    r.speed = r.time < 0.1 ? 5.0 : 5.0 - 0.5 * std::exp(-(r.time - 0.1) / 0.02);
+    dip.push_back(r);
+  }
+  const disturbance_figures d = disturbance_response(dip, &record::speed, 0.1, 1.0, 5.0);
+  CHECK(d.largest_deviation == doctest::Approx(-0.5));
+  CHECK(d.recovery_time == doctest::Approx(0.02 * std::log(5.0)).epsilon(5e-3));
+  CHECK(std::fabs(d.steady_state_error) < 1e-9);
+
   const angle_figures a = angle_error(sine, 0.0, 1.0);
   CHECK(a.rms_degrees == doctest::Approx(2.0));
   CHECK(a.largest_degrees == doctest::Approx(2.0));

@@ -302,20 +302,8 @@ int main(int argc, char** argv) {
   for (const type_run& r : runs) {
     const auto& rec = r.result.records;
     const sim::step_figures step = sim::step_response(rec, &sim::record::speed, m.first_step, m.second_step, m.speed1);
-    // The dip: lowest speed after the load step, below the set-point.
-    double lowest = INFINITY;
-    for (const sim::record& x : rec)
-      if (x.time >= m.load_step && x.time < m.step_down) lowest = std::fmin(lowest, x.speed);
-    // Recovery: back inside 2% of the set-point for good.
-    double recovery = NAN;
-    for (std::size_t k = rec.size(); k-- > 0;) {
-      if (rec[k].time < m.load_step) break;
-      if (rec[k].time >= m.step_down) continue;
-      if (std::fabs(rec[k].speed - m.speed2) > 0.02 * m.speed2) {
-        recovery = rec[k].time - m.load_step;
-        break;
-      }
-    }
+    const sim::disturbance_figures load =
+        sim::disturbance_response(rec, &sim::record::speed, m.load_step, m.step_down, m.speed2);
     const double quiet = m.step_down - 0.1;  // steady at 3000 rpm under load
     const sim::spread_figures ripple = sim::ripple(rec, &sim::record::iq, quiet, m.step_down);
     const sim::angle_figures angle = sim::angle_error(rec, m.first_step, m.end);
@@ -324,7 +312,7 @@ int main(int argc, char** argv) {
     std::printf("| %-6s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.name.c_str(),
                 fixed(step.rise_time * 1e3, 1).c_str(), fixed(step.overshoot * 100, 1).c_str(),
                 fixed(step.settling_time * 1e3, 1).c_str(), fixed(step.steady_state_error / rpm, 2).c_str(),
-                fixed((m.speed2 - lowest) / rpm, 1).c_str(), fixed(recovery * 1e3, 1).c_str(),
+                fixed(-load.largest_deviation / rpm, 1).c_str(), fixed(load.recovery_time * 1e3, 1).c_str(),
                 fixed(ripple.rms, 3).c_str(), fixed(angle.rms_degrees, 3).c_str(),
                 fixed(speed_difference / rpm, 2).c_str(), fixed(iq_difference, 3).c_str(),
                 fixed(r.ns_per_step, 0).c_str());

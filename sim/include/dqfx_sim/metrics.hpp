@@ -9,6 +9,9 @@
 ///     target +/- band*|step|;
 ///   - steady-state error: mean(signal - target) over the last `tail` fraction of the
 ///     window;
+///   - after a disturbance (a load step) at a constant target: the largest deviation,
+///     the recovery time until the signal last leaves target +/- band*|target|, and the
+///     steady-state error as above;
 ///   - ripple: the rms and the peak-to-peak of the signal about its mean in a window;
 ///   - angle error: rms and largest magnitude of `record::angle_error` in a window.
 
@@ -25,6 +28,12 @@ struct step_figures {
   double rise_time = NAN;           ///< s; NaN if it never reached 90%
   double overshoot = NAN;           ///< fraction of the step, >= 0
   double settling_time = NAN;       ///< s; NaN if still outside the band at the end
+  double steady_state_error = NAN;  ///< signal units
+};
+
+struct disturbance_figures {
+  double largest_deviation = NAN;   ///< signal units, signed (the dip of a load step is < 0)
+  double recovery_time = NAN;       ///< s; NaN if still outside the band at the end
   double steady_state_error = NAN;  ///< signal units
 };
 
@@ -73,6 +82,34 @@ inline step_figures step_response(const std::vector<record>& rows, signal s, dou
   f.rise_time = t90 - t10;
   f.overshoot = peak / std::fabs(size);
   f.settling_time = inside_at_end ? last_out - step_time : NAN;
+  f.steady_state_error = n > 0 ? sum / n : NAN;
+  return f;
+}
+
+/// The response of `signal`, held at `target`, to a disturbance at `time`, judged up to
+/// `end`.
+inline disturbance_figures disturbance_response(const std::vector<record>& rows, signal s, double time, double end,
+                                                double target, double band = 0.02, double tail = 0.2) {
+  disturbance_figures f;
+  double deviation = 0, last_out = NAN, sum = 0;
+  int n = 0;
+  bool any = false, inside_at_end = false;
+  const double tail_start = end - tail * (end - time);
+  for (const record& r : rows) {
+    if (r.time < time || r.time > end) continue;
+    const double e = r.*s - target;
+    any = true;
+    if (std::fabs(e) > std::fabs(deviation)) deviation = e;
+    inside_at_end = std::fabs(e) <= band * std::fabs(target);
+    if (!inside_at_end) last_out = r.time;
+    if (r.time >= tail_start) {
+      sum += e;
+      ++n;
+    }
+  }
+  if (!any) return f;
+  f.largest_deviation = deviation;
+  f.recovery_time = !inside_at_end ? NAN : (std::isnan(last_out) ? 0.0 : last_out - time);
   f.steady_state_error = n > 0 ? sum / n : NAN;
   return f;
 }
