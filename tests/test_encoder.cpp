@@ -6,6 +6,7 @@
 #include <string>
 
 #include "dqfx/encoder.hpp"
+#include "dqfx_sim/sensors.hpp"
 
 namespace {
 
@@ -257,4 +258,29 @@ TEST_CASE("encoder: parameters out of range are flagged") {
   static_assert(!e.parameter_fault());
   // 1.0 pu = 250 mechanical turns/s: 51.2 counts per sample, plus one.
   static_assert(e.max_step() == 52);
+}
+
+TEST_CASE_TEMPLATE("encoder: on the simulator's counter (dqfx::sim), 16-bit timer", T, q15, float) {
+  // The simulator of issue 6 counts quadrature edges from position 0 with `count_at_zero`
+  // where the d axis is on phase a; a 16-bit timer reads the low half.
+  dqfx::sim::encoder_parameters sp{};
+  sp.counts_per_turn = cpt;
+  sp.count_at_zero = 1234;
+  dqfx::encoder_parameters p = parameters(65536, 0.0);
+  // Offset: the electrical reading at the d axis, i.e. of count 1234.
+  p.offset = dqfx::electrical(dqfx::angle::from_turns(1234.0 / cpt), pole_pairs);
+  dqfx::encoder<T> e{p};
+  const double w = 0.2 * base_speed / pole_pairs;  // mechanical rad/s
+  double worst = 0, worst_speed = 0;
+  for (int k = 0; k < 8000; ++k) {
+    const double position = 0.1 + w * k * ts;
+    e.update(dqfx::sim::encoder_counter(sp, position) & 0xFFFFu);
+    const double theta = std::fmod(position * pole_pairs, two_pi);
+    worst = std::fmax(worst, std::fabs(std::remainder(e.electrical_angle().radians() - theta, two_pi)) * 180 / 3.14159265358979);
+    if (k > 1000) worst_speed = std::fmax(worst_speed, std::fabs(to_double(e.raw_speed()) - 0.2));
+  }
+  MESSAGE(name<T>(), " on dqfx::sim::encoder_counter: max electrical angle error ", worst, " deg (one count is ",
+          360.0 * pole_pairs / cpt, "), max speed error ", worst_speed, " pu");
+  CHECK(worst <= 360.0 * pole_pairs / cpt + 1e-6);
+  CHECK(worst_speed < 2e-3);
 }

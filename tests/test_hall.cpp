@@ -7,6 +7,7 @@
 #include <string>
 
 #include "dqfx/hall.hpp"
+#include "dqfx_sim/sensors.hpp"
 #include "reference/pmsm_model.hpp"
 
 namespace {
@@ -293,4 +294,24 @@ TEST_CASE("hall_learner: learns the table from a forced slow rotation, the lag c
   dqfx::hall_learner short_run;
   for (int k = 0; k < 100; ++k) short_run.observe(dqfx::angle::from_degrees(k * 0.5), state_at(truth, k * 0.5 * reference::pi / 180));
   CHECK_FALSE(short_run.result().ok);
+}
+
+TEST_CASE_TEMPLATE("hall_sensor: on the simulator's Hall signals (dqfx::sim)", T, q15, float) {
+  // The simulator of issue 6 places sensor a high over [0, 180) electrical degrees, b over
+  // [120, 300), c over [240, 60), late by `offset`: forward order 5, 1, 3, 2, 6, 4 from 0.
+  dqfx::sim::hall_parameters hp{};
+  hp.offset = 2.0 * reference::pi / 180;  // invented placement error
+  const dqfx::hall_table table = dqfx::hall_table::evenly({5, 1, 3, 2, 6, 4}, dqfx::angle::from_degrees(2.0));
+  dqfx::hall_sensor<T> h{parameters(table, 0.0)};
+  REQUIRE_FALSE(h.parameter_fault());
+  const double w = 0.05 * base_speed;
+  double worst = 0;
+  for (int k = 0; k < 20000; ++k) {
+    const double theta = 0.3 + w * k * ts;
+    h.update(dqfx::sim::hall_state(hp, theta));
+    CHECK_FALSE(h.bad_state());
+    if (k > 2000) worst = std::fmax(worst, degrees_between(h.electrical_angle(), theta));
+  }
+  MESSAGE(name<T>(), " on dqfx::sim::hall_state at 0.05 pu (sample clock): max angle error ", worst, " deg");
+  CHECK(worst < 5.0);
 }
