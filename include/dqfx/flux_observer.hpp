@@ -26,8 +26,14 @@
 ///
 /// Valid speed range: from `minimum_speed` (below it the back-EMF is too small against
 /// parameter and voltage errors: `trusted()` is false there) up to what the PLL and the
-/// per-unit scaling allow (|speed| < 1). In the closed-loop tests (invented motor) the angle
-/// error stays below 3 electrical degrees from 10 % of rated speed up.
+/// per-unit scaling allow (|speed| < 1). Choose `convergence_rate` near half the lowest
+/// electrical speed (rad/s) the drive runs sensorless at: a faster pull onto the circle
+/// lets wrong motor data turn the estimate away from the rotor at low speed.
+/// Measured in the closed-loop tests (invented motor, rated speed 0.6 pu, convergence rate
+/// 300 rad/s): with exact motor data the angle error is below 0.04 electrical degrees from
+/// 10 % of rated speed up, in every type; with the resistance 15 % high, inductances 5 %
+/// high and flux 2 % low it is 3.4 degrees at 0.1 pu and below 1.7 from 0.3 pu up, while
+/// below 0.05 pu the estimate is lost: there `minimum_speed` = 0.1 pu is the right choice.
 ///
 /// Bad input: a NaN or infinite current or voltage (float/double) raises `input_fault()`;
 /// the flux state holds, the speed holds its last good value and the angle advances at it.
