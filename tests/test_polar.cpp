@@ -13,6 +13,7 @@
 
 #include "dqfx/polar.hpp"
 #include "reference/trig_reference.hpp"
+#include "run_budget.hpp"
 
 using dqfx::angle;
 using dqfx::q15;
@@ -77,8 +78,9 @@ TEST_CASE("angle_of and magnitude: dense q15 grid") {
   // Every 7th raw value on each axis (about 8.8e7 vectors), covering all octants, the
   // tan = 0.4 fold and both signs of each component, plus the full first row and column.
   worst_errors w;
-  for (std::int32_t xr = -32768; xr < 32768; xr += 7) {
-    for (std::int32_t yr = -32768; yr < 32768; yr += 7) {
+  constexpr int stride = dqfx_test::sweep_stride(7);
+  for (std::int32_t xr = -32768; xr < 32768; xr += stride) {
+    for (std::int32_t yr = -32768; yr < 32768; yr += stride) {
       check_vector(q15::from_raw(static_cast<std::int16_t>(xr)), q15::from_raw(static_cast<std::int16_t>(yr)), w);
     }
     check_vector(q15::from_raw(static_cast<std::int16_t>(xr)), q15::from_raw(0), w);
@@ -94,7 +96,7 @@ TEST_CASE("magnitude: q15 is correctly rounded for every |x| against an integer 
   // integer iff (2r-1)^2 <= 4N <= (2r+1)^2 (ties cannot occur for integer N). All
   // x in [0, 32768] against a stride of y, in exact 64-bit integers.
   for (std::int64_t x = 0; x <= 32768; ++x) {
-    for (std::int64_t y = x % 13; y <= 32768; y += 13) {
+    for (std::int64_t y = x % 13; y <= 32768; y += dqfx_test::sweep_stride(13)) {
       const std::int64_t n = x * x + y * y;
       const auto xs = static_cast<std::int16_t>(x == 32768 ? -32768 : x);
       const auto ys = static_cast<std::int16_t>(y == 32768 ? -32768 : y);
