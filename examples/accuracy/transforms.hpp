@@ -155,7 +155,7 @@ inline void report_transforms() {
   transform_rows<dqfx::q31>("1 LSB", "0.5 LSB", "1 LSB");
   transform_rows<float>("2.4e-7 abs", "2.4e-7 abs", "2.4e-7 * max(1, |r|)");
   transform_rows<double>("4.5e-16 abs", "4.5e-16 abs", "4.5e-16 * max(1, |r|)");
-  modulation_rows<dqfx::q15>("0.5 + 2^-22 LSB", "0.5 + 2^-16 LSB");
+  modulation_rows<dqfx::q15>("0.5 + 2^-11 LSB", "0.5 + 2^-10/bus LSB");
   modulation_rows<dqfx::q31>("0.75 LSB", "1.25 LSB");
   modulation_rows<float>("2.4e-7 abs", "4.8e-7 abs");
   modulation_rows<double>("5e-16 abs", "1e-15 abs");

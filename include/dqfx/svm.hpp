@@ -30,20 +30,21 @@
 ///
 /// Error of each duty against the exact duty of the given command in the linear range
 /// (proven in tests/test_svm.cpp against a classic sector and dwell-time modulator):
-///                         q15                q31        float     double
-///   command / bus         0.5 + 2^-22 LSB    0.75 LSB   2.4e-7    5e-16
-///   command and bus       0.5 + 2^-16 LSB    1.25 LSB   4.8e-7    1e-15
-/// Line-to-line differences are within twice these. q15 duties are thus correctly
-/// rounded except within 2^-22 LSB of a tie; q31 carries the 32-bit constant sqrt(3) and
-/// (with a bus) a 32-bit reciprocal. For q15/q31, whose range stops one LSB short of 1, a
+///                         q15                  q31        float     double
+///   command / bus         0.5 + 2^-11 LSB      0.75 LSB   2.4e-7    5e-16
+///   command and bus b     0.5 + 2^-10/b LSB    1.25 LSB   4.8e-7    1e-15
+/// Line-to-line differences are within twice these. q15 works in 32-bit integers with 13
+/// guard bits (cheap on a 32-bit core); q31 carries the 32-bit constant sqrt(3) and (with
+/// a bus) a 32-bit reciprocal. For q15/q31, whose range stops one LSB short of 1, a
 /// duty of max() stands for 100 % (the PWM conversion maps it to the full period) and
 /// `clamp_high` ties its phase exactly there.
 ///
 /// Bad input: a NaN or infinite float command or bus voltage, a bus voltage that is
-/// zero or negative, or a command so large that its phase references overflow the float
-/// range, gives 50 % on every phase, sector 0 and `fault` set.
+/// zero, negative or (float/double) subnormal, or a command so large that its phase
+/// references overflow the float range, gives 50 % on every phase, sector 0 and `fault` set.
 
 #include <cstdint>
+#include <limits>
 
 #include "dqfx/extended.hpp"
 #include "dqfx/frames.hpp"
@@ -86,6 +87,17 @@ constexpr T full_duty() noexcept {
 
 namespace detail {
 
+/// A bus voltage `svm` can divide by: positive and, for float and double, not subnormal
+/// (the reciprocal of a subnormal value overflows to infinity, and 0 * infinity is NaN).
+template <class T>
+constexpr bool usable_bus(T bus) noexcept {
+  if constexpr (is_fixed_v<T>) {
+    return bus > T{};
+  } else {
+    return bus >= std::numeric_limits<T>::min() && finite_value(bus);
+  }
+}
+
 template <class T>
 constexpr modulation_result<T> faulted_modulation() noexcept {
   const T half = from_double<T>(0.5);
@@ -105,98 +117,121 @@ constexpr unsigned above(E x, E y, E z) noexcept {
   return (x > y || (x == y && z > x)) ? 1u : 0u;
 }
 
-/// Sector 1..6 (sector k covers [60(k-1), 60k) degrees) from the phase ordering.
+/// The phase ordering in one 60-degree sector (sector k covers [60(k-1), 60k) degrees).
+struct phase_order {
+  std::uint8_t sector, top, middle, bottom;
+};
+
+/// Indexed by 4*(a above b) + 2*(b above c) + (c above a); 0 is the zero vector and 7
+/// cannot occur.
+inline constexpr phase_order phase_orders[8] = {{1, 0, 1, 2}, {4, 2, 1, 0}, {2, 1, 0, 2}, {3, 1, 2, 0},
+                                                {6, 0, 2, 1}, {5, 2, 0, 1}, {1, 0, 1, 2}, {1, 0, 1, 2}};
+
 template <class E>
-constexpr std::uint8_t sector_of(E va, E vb, E vc) noexcept {
-  const unsigned a_over_b = above(va, vb, vc);
-  const unsigned b_over_c = above(vb, vc, va);
-  const unsigned c_over_a = above(vc, va, vb);
-  constexpr std::uint8_t table[8] = {1, 4, 2, 3, 6, 5, 1, 1};
-  return table[a_over_b * 4 + b_over_c * 2 + c_over_a];
+constexpr E clamp_duty(E d, E full) noexcept {
+  return d > full ? full : (d < E{} ? E{} : d);
 }
 
-/// The modulation of phase references v (in the units of `bus`, which is positive).
-template <class Scheme, class Limit, class T>
+/// The modulation of a command relative to `bus` (positive); `PerBus`: bus is one and
+/// no division is needed in the linear range.
+template <class Scheme, class Limit, bool PerBus, class T>
 constexpr modulation_result<T> modulate(stationary<T> command, extended<T> bus) noexcept {
   using E = extended<T>;
   constexpr precise_gain<T> sqrt3 = precise_gain<T>::from_double(1.73205080756887729353);
+  constexpr bool keep_angle = std::is_same_v<Limit, overmodulation::keep_angle>;
+  static_assert(keep_angle || std::is_same_v<Limit, overmodulation::minimum_distance>, "unknown over-modulation policy");
 
+  // Phase references (inverse Clarke) and their ordering.
   const E alpha{command.alpha};
-  const E s = E{command.beta} * sqrt3;
-  const E v[3] = {alpha, (s - alpha).half(), (-s - alpha).half()};
-  const E top = v[0] > v[1] ? (v[0] > v[2] ? v[0] : v[2]) : (v[1] > v[2] ? v[1] : v[2]);
-  const E bottom = v[0] < v[1] ? (v[0] < v[2] ? v[0] : v[2]) : (v[1] < v[2] ? v[1] : v[2]);
+  const E s = exact_sum<T>{command.beta} * sqrt3;
+  const E v[3] = {alpha, (s - alpha).half(), (-(s + alpha)).half()};
+  const phase_order o = phase_orders[above(v[0], v[1], v[2]) * 4 + above(v[1], v[2], v[0]) * 2 + above(v[2], v[0], v[1])];
+  const E top = v[o.top], bottom = v[o.bottom];
   if (!(top - bottom).is_finite()) return faulted_modulation<T>();
 
   modulation_result<T> out{};
-  out.sector = sector_of(v[0], v[1], v[2]);
+  out.sector = o.sector;
+  const E half{from_double<T>(0.5)}, full{full_duty<T>()};
+  E d[3]{};
 
-  // References x (zero-sequence removed for the hexagon schemes) and the denominator
-  // that turns them into duty offsets.
-  E x[3] = {v[0], v[1], v[2]};
-  E denominator = bus;
   if constexpr (std::is_same_v<Scheme, modulation::sinusoidal>) {
+    // Duty offsets are the references themselves; the hexagon is |v_x| <= bus/2.
     const E peak = top > -bottom ? top : -bottom;
+    E x[3] = {v[0], v[1], v[2]};
+    E denominator = bus;
     out.limited = peak * 2 > bus;
     if (out.limited) {
-      if constexpr (std::is_same_v<Limit, overmodulation::keep_angle>) {
+      if constexpr (keep_angle) {
         denominator = peak * 2;
       } else {
-        // Nearest point of the hexagon |v_x| <= bus/2: the largest phase onto its face,
-        // the difference of the other two clamped to that face's length.
-        const int i = top > -bottom ? (v[0] == top ? 0 : (v[1] == top ? 1 : 2))
-                                    : (v[0] == bottom ? 0 : (v[1] == bottom ? 1 : 2));
+        // Nearest point: the largest phase onto its face, the difference of the other
+        // two clamped to that face's length.
+        const int i = top > -bottom ? o.top : o.bottom;
         const int j = (i + 1) % 3, k = (i + 2) % 3;
         const E half_bus = bus.half();
         const E face = v[i] > E{} ? half_bus : -half_bus;
         const E split = clamp_symmetric(v[j] - v[k], half_bus);
         x[i] = face;
         x[j] = (split - face).half();
-        x[k] = (-split - face).half();
+        x[k] = (-(split + face)).half();
       }
     }
-  } else {
-    const E spread = top - bottom;
-    const E middle = (top + bottom).half();
-    for (E& r : x) r = r - middle;
-    out.limited = spread > bus;
-    if (out.limited) {
-      if constexpr (std::is_same_v<Limit, overmodulation::keep_angle>) {
-        denominator = spread;
-      } else {
-        const E half_bus = bus.half();
-        for (E& r : x) r = clamp_symmetric(r, half_bus);
-      }
-    }
-  }
-
-  // Duty offsets q = x / denominator, each in [-1/2, 1/2].
-  E q[3] = {x[0], x[1], x[2]};
-  if (denominator != E::one()) {
-    const divisor<T> over{denominator};
-    for (E& r : q) r = over(r);
-  }
-
-  // The scheme's zero sequence, then the one rounding.
-  const E full{full_duty<T>()};
-  E d[3]{};
-  const E q_top = q[0] > q[1] ? (q[0] > q[2] ? q[0] : q[2]) : (q[1] > q[2] ? q[1] : q[2]);
-  const E q_bottom = q[0] < q[1] ? (q[0] < q[2] ? q[0] : q[2]) : (q[1] < q[2] ? q[1] : q[2]);
-  bool to_top = std::is_same_v<Scheme, modulation::clamp_high>;
-  if constexpr (std::is_same_v<Scheme, modulation::clamp_peak>) to_top = top + bottom >= E{};
-  for (int p = 0; p < 3; ++p) {
-    if constexpr (std::is_same_v<Scheme, modulation::sinusoidal> ||
-                  std::is_same_v<Scheme, modulation::centred>) {
-      d[p] = E{from_double<T>(0.5)} + q[p];
-    } else if constexpr (std::is_same_v<Scheme, modulation::clamp_low>) {
-      d[p] = q[p] - q_bottom;
-    } else if constexpr (std::is_same_v<Scheme, modulation::clamp_high>) {
-      d[p] = full - (q_top - q[p]);
+    if (PerBus && !(keep_angle && out.limited)) {
+      for (int p = 0; p < 3; ++p) d[p] = half + x[p];
     } else {
-      static_assert(std::is_same_v<Scheme, modulation::clamp_peak>, "unknown modulation scheme");
-      d[p] = to_top ? full - (q_top - q[p]) : q[p] - q_bottom;
+      const divisor<T> over{denominator};
+      for (int p = 0; p < 3; ++p) d[p] = half + over(x[p]);
     }
-    d[p] = d[p] > full ? full : (d[p] < E{} ? E{} : d[p]);
+    for (E& r : d) r = clamp_duty(r, full);
+  } else {
+    // Hexagon schemes: the top and bottom phases sit symmetrically about their middle,
+    // at +/- q_top; only the middle phase has an offset of its own.
+    const E spread = top - bottom;
+    E x_middle = v[o.middle] - (top + bottom).half();
+    E q_top{}, q_middle{};
+    out.limited = spread > bus;
+    if (!out.limited) {
+      if constexpr (PerBus) {
+        q_top = spread.half();
+        q_middle = x_middle;
+      } else {
+        const divisor<T> over{bus};
+        q_top = over(spread.half());
+        q_middle = over(x_middle);
+      }
+    } else {
+      q_top = half;  // on the boundary: top and bottom one bus apart
+      if constexpr (keep_angle) {
+        q_middle = divisor<T>{spread}(x_middle);
+      } else {
+        x_middle = clamp_symmetric(x_middle, bus.half());
+        q_middle = PerBus ? x_middle : divisor<T>{bus}(x_middle);
+      }
+    }
+    // The scheme's zero sequence.
+    bool to_top = std::is_same_v<Scheme, modulation::clamp_high>;
+    if constexpr (std::is_same_v<Scheme, modulation::clamp_peak>) to_top = top + bottom >= E{};
+    if constexpr (std::is_same_v<Scheme, modulation::centred>) {
+      d[o.top] = half + q_top;
+      d[o.middle] = half + q_middle;
+      d[o.bottom] = half - q_top;
+    } else {
+      static_assert(std::is_same_v<Scheme, modulation::clamp_low> || std::is_same_v<Scheme, modulation::clamp_high> ||
+                        std::is_same_v<Scheme, modulation::clamp_peak>,
+                    "unknown modulation scheme");
+      if (to_top) {
+        d[o.top] = full;
+        d[o.middle] = full - (q_top - q_middle);
+        d[o.bottom] = full - q_top * 2;
+      } else {
+        d[o.top] = q_top * 2;
+        d[o.middle] = q_middle + q_top;
+        d[o.bottom] = E{};
+      }
+    }
+    d[o.top] = clamp_duty(d[o.top], full);
+    d[o.middle] = clamp_duty(d[o.middle], full);
+    d[o.bottom] = clamp_duty(d[o.bottom], full);
   }
   out.duty = {d[0].rounded(), d[1].rounded(), d[2].rounded()};
   return out;
@@ -210,17 +245,16 @@ template <class Scheme = modulation::centred, class Limit = overmodulation::keep
 constexpr modulation_result<T> svm(stationary<T> command_per_bus) noexcept {
   if (!detail::finite_value(command_per_bus.alpha) || !detail::finite_value(command_per_bus.beta))
     return detail::faulted_modulation<T>();
-  return detail::modulate<Scheme, Limit>(command_per_bus, extended<T>::one());
+  return detail::modulate<Scheme, Limit, true>(command_per_bus, extended<T>::one());
 }
 
 /// Space-vector modulation of a command and a DC-bus voltage in the same per-unit base.
-/// One division per call (q15/q31: a 64-bit integer division).
+/// One reciprocal per call (q15/q31: a 64-bit integer division).
 template <class Scheme = modulation::centred, class Limit = overmodulation::keep_angle, class T>
 constexpr modulation_result<T> svm(stationary<T> command, T bus) noexcept {
-  if (!detail::finite_value(command.alpha) || !detail::finite_value(command.beta) ||
-      !detail::finite_value(bus) || !(bus > T{}))
+  if (!detail::finite_value(command.alpha) || !detail::finite_value(command.beta) || !detail::usable_bus(bus))
     return detail::faulted_modulation<T>();
-  return detail::modulate<Scheme, Limit>(command, extended<T>{bus});
+  return detail::modulate<Scheme, Limit, false>(command, extended<T>{bus});
 }
 
 }  // namespace dqfx

@@ -19,8 +19,8 @@
 ///         reach 2.12, within 2.4e-7 * max(1, |result|))
 ///   double within 4.5e-16 absolute, in the same sense
 /// Fixed-point Clarke forms the exact integer combination of the inputs (2a - b - c,
-/// b - c, ...), multiplies it once by a 32-bit constant and rounds once; Park forms both
-/// products exactly and rounds their sum once.
+/// b - c, ...), multiplies it by a 32-bit constant exactly and rounds once (`scale`); Park
+/// forms both products exactly and rounds their sum once.
 
 #include "dqfx/extended.hpp"
 #include "dqfx/frames.hpp"
@@ -77,8 +77,8 @@ template <class Scaling, class T> struct clarke_gains {
 template <class Scaling = amplitude_invariant, class T>
 constexpr stationary<T> clarke(phases<T> x) noexcept {
   using g = detail::clarke_gains<Scaling, T>;
-  const extended<T> a{x.a}, b{x.b}, c{x.c};
-  return {((a * 2 - b - c) * g::alpha_of_abc).rounded(), ((b - c) * g::beta_of_bc).rounded()};
+  const exact_sum<T> a{x.a}, b{x.b}, c{x.c};
+  return {scale(a * 2 - b - c, g::alpha_of_abc), scale(b - c, g::beta_of_bc)};
 }
 
 /// Clarke transform from phases a and b of a balanced set (c = -a - b), e.g. two current
@@ -86,19 +86,17 @@ constexpr stationary<T> clarke(phases<T> x) noexcept {
 template <class Scaling = amplitude_invariant, class T>
 constexpr stationary<T> clarke(T a, T b) noexcept {
   using g = detail::clarke_gains<Scaling, T>;
-  const extended<T> ea{a}, eb{b};
-  return {(ea * g::alpha_of_a).rounded(), ((ea + eb * 2) * g::beta_of_bc).rounded()};
+  const exact_sum<T> ea{a}, eb{b};
+  return {scale(ea, g::alpha_of_a), scale(ea + eb * 2, g::beta_of_bc)};
 }
 
 /// Inverse Clarke transform: the balanced phase quantities of a stationary vector.
 template <class Scaling = amplitude_invariant, class T>
 constexpr phases<T> inverse_clarke(stationary<T> v) noexcept {
   using g = detail::clarke_gains<Scaling, T>;
-  const extended<T> alpha{v.alpha}, beta{v.beta};
-  const extended<T> common = -(alpha * g::bc_of_alpha);
-  const extended<T> differential = beta * g::bc_of_beta;
-  return {(alpha * g::a_of_alpha).rounded(), (common + differential).rounded(),
-          (common - differential).rounded()};
+  const exact_sum<T> alpha{v.alpha}, beta{v.beta};
+  return {scale(alpha, g::a_of_alpha), scale(-alpha, g::bc_of_alpha, beta, g::bc_of_beta),
+          scale(-alpha, g::bc_of_alpha, -beta, g::bc_of_beta)};
 }
 
 /// Park transform: the stationary vector seen from a frame turned by the angle whose
