@@ -123,9 +123,10 @@ struct mtpa_geometry {
   }
 };
 
-/// Per-type pieces: square root in [0, 1], the table position of u in [0, 1] and the
-/// float input check.
+/// Per-type pieces: one (or the nearest below), square root in [0, 1], the table
+/// position of u in [0, 1] and the float input check.
 template <class T, class = void> struct setpoint_recipe {
+  static constexpr T unit() noexcept { return T{1}; }
   static T root(T x) noexcept { return std::sqrt(x); }
   template <int Bits> static constexpr void position(T u, int& k, T& fraction) noexcept {
     constexpr int last = (1 << Bits) - 1;
@@ -141,6 +142,7 @@ template <class T> struct setpoint_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
   using uwide = std::make_unsigned_t<typename T::wide_type>;
   static constexpr int bits = T::fraction_bits;
 
+  static constexpr T unit() noexcept { return T::max(); }  // 1 - 1 LSB
   static constexpr T root(T x) noexcept {
     const uwide r = x.raw() > 0 ? static_cast<uwide>(x.raw()) : uwide{0};
     return T::saturated(static_cast<std::int64_t>(rounded_sqrt<uwide>(r << bits)));
@@ -252,7 +254,7 @@ class torque_setpoint {
   T mtpa_d_current(T torque) const noexcept {
     if (!salient_ || !recipe::finite(torque)) return T{};
     const T a = magnitude_of(torque);
-    const T r = a * per_peak_torque_;  // (t / peak) = u^2, in [0, 1]
+    const T r = a < peak_torque_ ? a * per_peak_torque_ : recipe::unit();  // t / peak = u^2, in [0, 1]
     int k = 0;
     T f{};
     recipe::template position<segment_bits>(recipe::root(r), k, f);
