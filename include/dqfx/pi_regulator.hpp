@@ -38,7 +38,9 @@
 ///
 /// Bad input: a NaN or infinite float error, feed-forward or applied value leaves the
 /// integrator unchanged, outputs 0 clamped into the limits and raises `input_fault()`;
-/// limits in the wrong order: see the constructor and `set_limits`.
+/// so does a float set-point minus measurement that overflows. A float integrator update
+/// that would overflow (gains or inputs near the float range) is refused and raises
+/// `input_fault()`. Limits in the wrong order: see the constructor and `set_limits`.
 
 #include <cstdint>
 #include <type_traits>
@@ -118,20 +120,25 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
   /// v * g rounded once, for |v| <= 2^41 and any gain: v is split at bit 31 so that
   /// each partial product fits in 64 bits; the result is clamped to +/-headroom.
   static constexpr state product(state v, gain_type g) noexcept {
-    const state high = v >> 31;                       // floor(v / 2^31), |high| <= 2^10
-    const state low = v - high * (state{1} << 31);    // in [0, 2^31)
     const state m = g.mantissa();
     const int s = g.shift();
-    // v*m*2^(s-31) = high*m*2^s + low*m*2^(s-31); the first term is exact.
-    const state high_part = high * m;                 // |.| <= 2^41
-    if (high_part > (headroom >> s) || high_part < -(headroom >> s)) {
+    // Beyond the headroom already by the whole part of |v| / 2^31: saturate before the
+    // shifted terms below could overflow. (Not by `high`: for a small negative v it is
+    // -1, and its term cancels against the low one.)
+    const state whole = (v < 0 ? -v : v) >> 31;       // |v| <= 2^41
+    if (whole * (m < 0 ? -m : m) > (headroom >> s)) {
       note_saturation();
-      return high_part < 0 ? -headroom : headroom;
+      return (v < 0) != (m < 0) ? -headroom : headroom;
     }
-    return clamp(high_part * (state{1} << s) + round_shift(low * m, 31 - s));
+    const state high = v >> 31;                       // floor(v / 2^31), |high| <= 2^10
+    const state low = v - high * (state{1} << 31);    // in [0, 2^31)
+    // v*m*2^(s-31) = high*m*2^s + low*m*2^(s-31); the first term is exact, and both
+    // stay below 2^62 in magnitude after the check above.
+    return clamp(high * m * (state{1} << s) + round_shift(low * m, 31 - s));
   }
   static constexpr state add(state a, state b) noexcept { return clamp(a + b); }
   static constexpr bool finite(T) noexcept { return true; }
+  static constexpr bool finite(state) noexcept { return true; }
 
  private:
   static constexpr state clamp(state v) noexcept {
@@ -236,11 +243,11 @@ class pi_regulator {
     if constexpr (std::is_same_v<AntiWindup, conditional_integration>) {
       const bool deeper = (excess > state{} && increment > state{}) ||
                           (excess < state{} && increment < state{});
-      if (!deeper) x_ = arith::add(x_, increment);
+      if (!deeper) set_integral(arith::add(x_, increment));
     } else if constexpr (std::is_same_v<AntiWindup, back_calculation>) {
-      x_ = arith::add(x_, increment - arith::product(excess, kt_));
+      set_integral(arith::add(x_, increment - arith::product(excess, kt_)));
     } else {
-      x_ = arith::add(x_, increment);
+      set_integral(arith::add(x_, increment));
     }
   }
 
@@ -262,8 +269,8 @@ class pi_regulator {
       input_fault_ = true;
       return;
     }
-    x_ = arith::add(arith::widen(output) - arith::widen(feed_forward),
-                    -arith::product(arith::widen(error), kp_));
+    set_integral(arith::add(arith::widen(output) - arith::widen(feed_forward),
+                            -arith::product(arith::widen(error), kp_)));
   }
 
   /// The integrator, rounded and saturated to T.
@@ -271,7 +278,7 @@ class pi_regulator {
 
   /// Sticky: limits arrived in the wrong order or as NaN.
   constexpr bool limits_fault() const noexcept { return limits_fault_; }
-  /// Sticky: a non-finite input was refused.
+  /// Sticky: a non-finite input (or a float overflow, see above) was refused.
   constexpr bool input_fault() const noexcept { return input_fault_; }
   constexpr void clear_faults() noexcept { limits_fault_ = input_fault_ = false; }
 
@@ -290,13 +297,24 @@ class pi_regulator {
   }
 
   constexpr pi_proposal<T> propose_error(state error, T feed_forward) const noexcept {
-    if (!arith::finite(feed_forward)) return faulty();
+    // float/double: set-point minus measurement can overflow to infinity.
+    if (!arith::finite(error) || !arith::finite(feed_forward)) return faulty();
     pi_proposal<T> p{};
     p.error = error;
     p.sum = arith::add(arith::add(arith::product(error, kp_), x_), arith::widen(feed_forward));
     p.unlimited = arith::narrow(p.sum);
     p.output = clamp(p.unlimited);
     return p;
+  }
+
+  /// float/double: an integrator update that overflows (gains or inputs near the float
+  /// range) is refused, so the integrator stays finite and no NaN reaches the output.
+  constexpr void set_integral(state next) noexcept {
+    if (!arith::finite(next)) {
+      input_fault_ = true;
+      return;
+    }
+    x_ = next;
   }
 
   gain_type kp_{};
