@@ -95,11 +95,12 @@ class dead_time_compensation {
     return from_ratio(pwm_period_s > 0.0 ? dead_time_s / pwm_period_s : 0.0, band);
   }
 
-  /// The duty to add for current i: duty_loss * clamp(i / band, -1, 1). NaN current: 0.
+  /// The duty to add for current i: duty_loss * clamp(i / band, -1, 1). NaN current: 0;
+  /// a band <= 0 (or NaN) switches the correction off, for any current.
   constexpr T correction(T current) const noexcept {
-    if (current != current) return T{};
     const T one = full_duty<T>();
     T ramp = current * slope_;
+    if (ramp != ramp) return T{};  // a NaN current, or an infinite one without a band (0 * inf)
     ramp = ramp > one ? one : (ramp < -one ? -one : ramp);
     return ramp * duty_loss_;
   }
