@@ -18,7 +18,9 @@
 /// square root of the torque (32 segments, dense where the d current starts to grow), and
 /// each call interpolates id and then takes iq = t / (psi + (ld - lq) id) by one division:
 /// the torque is met to rounding, and the current magnitude, being minimal along the
-/// torque curve, errs only by the square of the interpolation error.
+/// torque curve, errs only by the square of the interpolation error. The table is 33
+/// values of T; a call costs one square root for the table position, one for each limit
+/// and up to two divisions (fixed point: integer square roots, 64-bit divisions, no libm).
 ///
 /// Limits, for the d current in use (MTPA, or lower from field_weakening.hpp):
 ///   circle   id^2 + iq^2 <= imax^2
@@ -30,9 +32,9 @@
 /// Error bounds (tests/test_torque_setpoint.cpp, four invented motors from surface
 /// magnets to a magnet-assisted reluctance motor with 2 (lq - ld) imax / psi = 19):
 ///   current magnitude against a brute-force search over the current angle: within 0.1%
-///   plus 1 LSB (fixed point) for every type; measured for magnitudes above 0.05: q15
-///   3.0e-4 relative, q31, float and double 4.5e-5 (the table, reluctance-dominated motor;
-///   below 2e-7 for the others);
+///   plus 1 LSB (fixed point) for every type; measured for magnitudes above 0.05 per
+///   unit: q15 3.0e-4 relative, q31, float and double 4.5e-5 (the table, on the
+///   reluctance-dominated motor; below 2e-7 on the others);
 ///   torque t(id*, iq*) against the command below base speed: within 4 LSB (float,
 ///   double: 4 eps), measured 1.3 LSB at most;
 ///   q15/q31/float set-points against the double ones: within 2 LSB where no limit cuts
