@@ -260,12 +260,10 @@ class encoder {
   }
 
   constexpr void select() noexcept {
-    if (!counted_) {
+    if (!counted_ || (method_ == encoder_speed_method::counting && abs(counting_speed_) < switch_low_)) {
       method_ = encoder_speed_method::timing;
     } else if (method_ == encoder_speed_method::timing && abs(timing_speed_) > switch_high_) {
       method_ = encoder_speed_method::counting;
-    } else if (method_ == encoder_speed_method::counting && abs(counting_speed_) < switch_low_) {
-      method_ = encoder_speed_method::timing;
     }
     raw_speed_ = method_ == encoder_speed_method::counting ? counting_speed_ : timing_speed_;
   }

@@ -114,11 +114,11 @@ class flux_observer {
         saliency_{gain<S>::from_double((p.ld - p.lq) / scale_)},
         correction_gain_{gain<S>::from_double(correction_of(p, scale_of(p)))},
         flux_{from_double<S>(p.flux / scale_)},
+        active_flux_{flux_},
         salient_{p.ld != p.lq},
         minimum_{detail::bounded<T>(p.minimum_speed)},
         trust_{detail::bounded<T>(1.2 * p.minimum_speed)},
         pll_{tracking_pll_parameters{p.pll_frequency, p.pll_damping, p.base_speed, p.sample_time}} {
-    active_flux_ = flux_;
     const double step = step_of(p);
     const bool valid = p.resistance >= 0.0 && p.ld > 0.0 && p.lq > 0.0 && p.flux > 0.0 && p.flux < 1.0 &&
                        p.convergence_rate > 0.0 && p.convergence_rate * p.sample_time <= 0.5 && step > 0.0 &&

@@ -45,11 +45,12 @@ constexpr double expm1(double x) noexcept {
   if (x <= 0.35 && x >= -0.35) return expm1_series(x);
   const double ln2_high = 0.693147180369123816490;  // few bits: k * ln2_high is exact
   const double ln2_low = 1.90821492927058770002e-10;
-  const double k = static_cast<double>(round_half_away(x / 0.69314718055994530942));
+  const std::int64_t n = round_half_away(x / 0.69314718055994530942);
+  const double k = static_cast<double>(n);
   const double r = (x - k * ln2_high) - k * ln2_low;
   double e = 1.0 + expm1_series(r);
-  for (double i = 0; i < k; ++i) e *= 2.0;
-  for (double i = 0; i > k; --i) e *= 0.5;
+  for (std::int64_t i = 0; i < n; ++i) e *= 2.0;
+  for (std::int64_t i = 0; i > n; --i) e *= 0.5;
   return e - 1.0;
 }
 
