@@ -108,6 +108,7 @@ class flux_observer {
   constexpr flux_observer() noexcept = default;
   constexpr explicit flux_observer(const flux_observer_parameters& p) noexcept
       : scale_{scale_of(p)},
+        unscale_{gain<S>::from_double(scale_of(p))},
         voltage_gain_{gain<S>::from_double(step_of(p) / scale_)},
         resistance_gain_{gain<S>::from_double(step_of(p) * p.resistance / (2.0 * scale_))},
         inductance_{gain<S>::from_double(p.lq / scale_)},
@@ -187,8 +188,7 @@ class flux_observer {
   constexpr angle observed() const noexcept { return observed_; }
   /// The estimated active flux vector eta, per unit (saturated to T).
   constexpr stationary<T> flux() const noexcept {
-    const gain<S> up = gain<S>::from_double(scale_);
-    return {detail::narrow<T>(eta_.alpha * up), detail::narrow<T>(eta_.beta * up)};
+    return {detail::narrow<T>(eta_.alpha * unscale_), detail::narrow<T>(eta_.beta * unscale_)};
   }
   /// Above the minimum speed (with 20 % hysteresis): the estimate can be used to control.
   constexpr bool trusted() const noexcept { return trusted_; }
@@ -220,6 +220,7 @@ class flux_observer {
   }
 
   double scale_ = 1.0;
+  gain<S> unscale_{};
   gain<S> voltage_gain_{};
   gain<S> resistance_gain_{};
   gain<S> inductance_{};
