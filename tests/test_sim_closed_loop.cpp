@@ -178,6 +178,42 @@ TEST_CASE_TEMPLATE("sim closed loop: the drive's measured currents give the load
   CHECK(torque == doctest::Approx(load).epsilon(3e-3));  // measured 1e-3
 }
 
+// Maximum torque per ampere in closed loop: under a steady load the drive's measured
+// currents lie on id = psi/(2(Lq-Ld)) - sqrt(psi^2/(4(Lq-Ld)^2) + iq^2) (Morimoto, Takeda,
+// Hirasa and Taniguchi, IEEE Trans. Industry Applications, 1990) and give the load torque.
+TEST_CASE_TEMPLATE("sim closed loop: with MTPA the measured currents sit on the MTPA curve at the load torque", T, q15,
+                   q31, float, double) {
+  sim::speed_drive_design d = invented_drive();
+  d.mtpa = true;
+  sim::scenario s;
+  s.duration = 0.35;
+  s.speed.step(0.02, 1500 * rpm);
+  s.load.step(0.1, 0.8);
+  sim::speed_drive<T> drive{d};
+  double id = 0, iq = 0;
+  int n = 0;
+  auto observed = [&](const sim::readings& in, const sim::command& c, sim::probe& p) {
+    const auto duty = drive(in, c, p);
+    if (in.time >= 0.25) {
+      id += dqfx::to_double(drive.last_output().current.d) * base.base_current;
+      iq += dqfx::to_double(drive.last_output().current.q) * base.base_current;
+      ++n;
+    }
+    return duty;
+  };
+  REQUIRE(sim::run(d.plant, s, observed).outcome.ok());
+  id /= n;
+  iq /= n;
+  const sim::motor_parameters& m = d.plant.motor;
+  const double half = m.flux / (2 * (m.lq - m.ld));
+  const double mtpa_id = half - std::sqrt(half * half + iq * iq);
+  const double torque = 1.5 * m.pole_pairs * (m.flux * iq + (m.ld - m.lq) * id * iq);
+  MESSAGE(name<T>(), ": id ", id, " A (MTPA ", mtpa_id, " A), iq ", iq, " A, torque ", torque, " N m");
+  CHECK(id == doctest::Approx(mtpa_id).epsilon(5e-3));  // measured 3e-4
+  CHECK(id < -0.5);
+  CHECK(torque == doctest::Approx(0.8 + m.friction * 1500 * rpm).epsilon(3e-3));
+}
+
 // The whole drive: standstill, calibration, a speed step, a load step, a step down. The
 // figures are met in every type, and the fixed-point and float drives stay close to the
 // double one in their own closed loops (same noise sequence).

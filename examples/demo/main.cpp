@@ -67,6 +67,7 @@ sim::speed_drive_design invented_drive() {
   d.speed_divider = 10;
   d.speed_window = 40;
   d.current_limit = 15.0;
+  d.mtpa = true;  // id*, iq* by maximum torque per ampere (interior magnets)
   return d;
 }
 
@@ -194,7 +195,8 @@ set ylabel 'iq (A)'
 plot for [i=1:4] overview(word(types,i)) using 1:6 with lines lw 1 lc rgb colour(i) title word(types,i), \
      overview('q15') using 1:8 with lines dt 2 lw 1.5 lc '#ff7f0e' title 'iq* (q15)'
 set ylabel 'id (A)'
-plot for [i=1:4] overview(word(types,i)) using 1:5 with lines lw 1 lc rgb colour(i) title word(types,i)
+plot for [i=1:4] overview(word(types,i)) using 1:5 with lines lw 1 lc rgb colour(i) title word(types,i), \
+     overview('q15') using 1:7 with lines dt 2 lw 1.5 lc '#ff7f0e' title 'id* (q15, MTPA)'
 set ylabel 'phase current (A)'
 set xlabel 'time (s), around the load step'
 set xrange [LOAD_STEP-0.004:LOAD_STEP+0.012]

@@ -14,7 +14,10 @@
 /// back-calculation with the tracking gain Ts/Ti overshot 16.6%, in the demo's scenario at
 /// a 12 Hz crossover) giving iq*; then the
 /// current-loop step (dqfx::current_loop: Clarke, Park, two PI with feed-forward,
-/// voltage limit, inverse Park, SVM) with a constant id* (0 by default).
+/// voltage limit, inverse Park, SVM) with a constant id* (0 by default), or, with `mtpa`,
+/// the speed PI's output read as a torque demand (psi * iq*) and turned into id*, iq* by
+/// dqfx::torque_setpoint (maximum torque per ampere within the current circle and the
+/// voltage ellipse) at the speed-loop rate.
 
 #include <array>
 #include <cstdint>
@@ -26,6 +29,7 @@
 #include "dqfx/per_unit.hpp"
 #include "dqfx/pi_regulator.hpp"
 #include "dqfx/sincos.hpp"
+#include "dqfx/torque_setpoint.hpp"
 #include "dqfx_sim/harness.hpp"
 #include "dqfx_sim/plant.hpp"
 
@@ -42,6 +46,7 @@ struct speed_drive_design {
   unsigned speed_window = 20;        ///< PWM periods the speed is measured over (1 to 64)
   double current_limit = 0.0;        ///< A, limit of iq*
   double id_setpoint = 0.0;          ///< A, constant id* (0, or negative for reluctance torque)
+  bool mtpa = false;                 ///< id*, iq* by maximum torque per ampere instead
   unsigned calibration_periods = 256;  ///< ADC offset calibration at standstill (1 to 65536)
   std::uint16_t calibration_spread = 64;  ///< largest accepted code spread during calibration
 };
@@ -65,7 +70,11 @@ class speed_drive {
                      {format_, d.calibration_periods, d.calibration_spread}},
         speed_scale_{gain<T>::from_double(pi / ((d.speed_window ? d.speed_window : 1) * sample_time_ * d.base.base_speed))},
         window_{d.speed_window < 1 ? 1u : (d.speed_window > 64 ? 64u : d.speed_window)},
-        id_setpoint_{from_double<T>(d.id_setpoint / d.base.base_current)} {}
+        id_setpoint_{from_double<T>(d.id_setpoint / d.base.base_current)},
+        flux_{gain<T>::from_double(d.base.flux(d.plant.motor.flux))},
+        mtpa_{design_torque_setpoint(d.base, pm_motor_data{d.plant.motor.resistance, d.plant.motor.ld,
+                                                           d.plant.motor.lq, d.plant.motor.flux},
+                                     d.current_limit)} {}
 
   /// One PWM period (the controller interface of `run`).
   phases<T> operator()(const readings& r, const command& c, probe& p) {
@@ -75,6 +84,7 @@ class speed_drive {
       return {half, half, half};
     }
     const angle rotor = electrical_angle(r.encoder_count);
+    bus_voltage_ = from_double<T>(r.bus_voltage / d_.base.base_voltage);
     if (periods_ % d_.speed_divider == 0) speed_sample(rotor, c);
     history_[periods_ % window_] = rotor;
     ++periods_;
@@ -85,7 +95,7 @@ class speed_drive {
     in.rotor = sincos_of<T>(rotor);
     in.speed = speed_;
     in.setpoint = {id_setpoint_, iq_setpoint_};
-    in.bus_voltage = from_double<T>(r.bus_voltage / d_.base.base_voltage);
+    in.bus_voltage = bus_voltage_;
     last_ = loop_.step(in);
 
     p.angle = rotor.radians();
@@ -147,6 +157,11 @@ class speed_drive {
     const pi_proposal<T> p = speed_pi_.propose_from(setpoint, speed_, T{});
     speed_pi_.commit(p, p.output);
     iq_setpoint_ = p.output;
+    if (d_.mtpa) {
+      const current_setpoint<T> set = mtpa_(p.output * flux_, speed_, bus_voltage_);
+      id_setpoint_ = set.current.d;
+      iq_setpoint_ = set.current.q;
+    }
   }
 
   /// raw / 2^31 in T, rounded to nearest (the arithmetic right shift is pinned by
@@ -178,6 +193,9 @@ class speed_drive {
   std::uint64_t periods_ = 0;
   bool calibrated_ = false;
   T id_setpoint_{};
+  gain<T> flux_;
+  torque_setpoint<T> mtpa_;
+  T bus_voltage_{};
   T speed_{};
   T iq_setpoint_{};
   current_loop_output<T> last_{};
