@@ -202,7 +202,7 @@ TEST_CASE_TEMPLATE("Policy 8: PWM compare values and dead-time compensation stay
   const auto comp = dqfx::dead_time_compensation<T>::from_ratio(0.02, 0.05);
   const auto off = dqfx::dead_time_compensation<T>::from_ratio(0.02, 0.0);  // no band: switched off
   const T lo = dqfx::number_traits<T>::lowest(), hi = dqfx::number_traits<T>::max();
-  const dqfx::phases<T> d = comp.apply({lo, hi, T{}}, {hi, lo, hi});
+  const dqfx::phases<T> d = comp.apply({lo, hi, T{}}, {lo, hi, hi});  // pushed further out: clamped
   CHECK((d.a == T{} && d.b == dqfx::full_duty<T>() && in_duty_range(d.c)));
   CHECK(off.correction(hi) == T{});
   if constexpr (!dqfx::is_fixed_v<T>) {
