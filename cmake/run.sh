@@ -7,7 +7,7 @@ cd "$(dirname "$0")/.."
 
 # Packages the demo needs, then the extra ones the full test suite needs.
 demo_packages="g++ cmake ninja-build gnuplot-nox"
-test_packages="$demo_packages doctest-dev libbenchmark-dev clang libmpfr-dev libboost-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm"
+test_packages="$demo_packages doctest-dev libbenchmark-dev clang libmpfr-dev libboost-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm clang-tidy cppcheck"
 
 install_missing() {
   missing=""
@@ -43,6 +43,13 @@ case "${1:-}" in
     # golden vectors against the host, ARMv6-M instruction check.
     echo "dqfx: workflow cortex-m"
     cmake --workflow --preset cortex-m
+    # Robustness: the compiler matrix (clang++ C++20 -O0 suite; golden vectors with g++ and
+    # clang++ at C++17/20, -O0/-O2), libFuzzer (20 s per harness from the checked-in
+    # corpus), clang-tidy and cppcheck.
+    for workflow in matrix fuzz static-analysis; do
+      echo "dqfx: workflow $workflow"
+      cmake --workflow --preset "$workflow"
+    done
     ;;
   *)
     echo "usage: $0 demo|test" >&2
