@@ -83,10 +83,11 @@ namespace detail {
 // Deliberately not constexpr: reaching it in a constexpr loop stops compilation.
 inline void tracking_pll_design_out_of_range() noexcept {}
 
-/// a rounded to the nearest integer (ties away from zero); |a| < 2^62.
+/// a rounded to the nearest integer (ties away from zero), |a| < 2^31 - 128: a 32-bit
+/// conversion, which FPUs do in one instruction (a 64-bit one is a library call).
 template <class F>
-constexpr std::int64_t nearest_integer(F a) noexcept {
-  return a < F{0} ? -static_cast<std::int64_t>(F{0.5} - a) : static_cast<std::int64_t>(a + F{0.5});
+constexpr std::int32_t nearest_integer(F a) noexcept {
+  return a < F{0} ? -static_cast<std::int32_t>(F{0.5} - a) : static_cast<std::int32_t>(a + F{0.5});
 }
 
 /// The loop arithmetic per type. `rate` is the angle per sample; `units(rate)` that angle
@@ -109,13 +110,14 @@ template <class T, class = void> struct pll_recipe {
   static constexpr T beta_of(const constants& c, std::int32_t e) noexcept { return static_cast<T>(e) * c.beta; }
   static constexpr T add(T rate, T increment) noexcept { return rate + increment; }
   static constexpr T limit(T rate) noexcept {
-    constexpr T most = T(2147483647.0);
+    constexpr T most = T(2147483520.0);  // 2^31 - 128: exact in float, and its rounding fits int32
     return rate > most ? most : (rate < -most ? -most : rate);
   }
   static constexpr T speed(const constants& c, T rate) noexcept { return rate * c.to_speed; }
   static constexpr T rate_of(const constants& c, T speed) noexcept { return limit(speed * c.units_per_speed); }
   static constexpr std::int32_t sine_units(T e) noexcept {
-    return static_cast<std::int32_t>(nearest_integer(e * T(683565275.57643158978)));  // 2^31 / pi
+    const T u = e * T(683565275.57643158978);  // 2^31 / pi; |sin| <= 1 (a little more in float)
+    return nearest_integer(u > T(2147483520.0) ? T(2147483520.0) : (u < T(-2147483520.0) ? T(-2147483520.0) : u));
   }
 };
 
