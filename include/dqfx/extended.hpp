@@ -385,15 +385,10 @@ class divisor<T, std::enable_if_t<is_fixed_v<T>>> {
     // D r is formed from all 63 bits of dn; the error term is kept at 2^-32, 2^-36 and
     // 2^-44 as it shrinks, so that r * error stays below 2^61.
     std::int64_t r = 6063268936 - static_cast<std::int64_t>((std::uint64_t{4042179290u} * (dn >> 31)) >> 32);
-    constexpr int scale_bits[3] = {32, 36, 44};
-    for (const int bits : scale_bits) {
-      const auto ur = static_cast<std::uint64_t>(r);  // <= 2^32
-      const std::uint64_t dr = (dn >> 32) * ur + (((dn & 0xFFFFFFFFu) * ur) >> 32);  // D r at 2^-62
-      const std::uint64_t one = std::uint64_t{1} << 62;
-      const std::int64_t error = dr <= one ? static_cast<std::int64_t>((one - dr) >> (62 - bits))
-                                           : -static_cast<std::int64_t>((dr - one) >> (62 - bits));
-      r += ((r * error) + (std::int64_t{1} << (bits - 1))) >> bits;  // rounded
-    }
+    // Written out so that every shift is a constant (a loop over the scales costs twice).
+    r = newton_step<32>(r, dn);
+    r = newton_step<36>(r, dn);
+    r = newton_step<44>(r, dn);
     mantissa_ = r > 0xFFFFFFFF ? 0xFFFFFFFFu : static_cast<std::uint32_t>(r);
   }
 
@@ -408,6 +403,17 @@ class divisor<T, std::enable_if_t<is_fixed_v<T>>> {
   }
 
  private:
+  /// r + r * (1 - D r), rounded, with the error term at 2^-Bits.
+  template <int Bits>
+  static constexpr std::int64_t newton_step(std::int64_t r, std::uint64_t dn) noexcept {
+    const auto ur = static_cast<std::uint64_t>(r);  // <= 2^32
+    const std::uint64_t dr = (dn >> 32) * ur + (((dn & 0xFFFFFFFFu) * ur) >> 32);  // D r at 2^-62
+    constexpr std::uint64_t one = std::uint64_t{1} << 62;
+    const std::int64_t error = dr <= one ? static_cast<std::int64_t>((one - dr) >> (62 - Bits))
+                                         : -static_cast<std::int64_t>((dr - one) >> (62 - Bits));
+    return r + (((r * error) + (std::int64_t{1} << (Bits - 1))) >> Bits);  // rounded
+  }
+
   std::uint64_t den_{0};
   int shift_{0};
   std::uint32_t mantissa_{0};
