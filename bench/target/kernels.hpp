@@ -24,6 +24,10 @@
 
 #include "dqfx/angle.hpp"
 #include "dqfx/current_loop.hpp"
+#include "dqfx/encoder.hpp"
+#include "dqfx/flux_observer.hpp"
+#include "dqfx/hall.hpp"
+#include "dqfx/tracking_pll.hpp"
 #include "dqfx/frames.hpp"
 #include "dqfx/number.hpp"
 #include "dqfx/pi_regulator.hpp"
@@ -339,146 +343,135 @@ struct textbook_current_step {
   static constexpr role kind = role::baseline;
 };
 
+
+// Angle and speed estimators (invented drive: 20 kHz, speed 1.0 = 1000 Hz electrical).
+
+/// Angle and speed; fixed-point speeds as a 32-bit raw value (no padding to compare).
+template <class T> struct estimate {
+  using speed_type = std::conditional_t<dqfx::is_fixed_v<T>, std::int32_t, T>;
+  dqfx::angle position;
+  speed_type speed;
+  static estimate of(dqfx::angle a, T v) noexcept {
+    if constexpr (dqfx::is_fixed_v<T>) {
+      return {a, static_cast<std::int32_t>(v.raw())};
+    } else {
+      return {a, v};
+    }
+  }
+};
+
+struct pll_update {
+  static constexpr const char* name = "tracking_pll::update";
+  using types = all_types;
+  template <class T> struct input {
+    dqfx::tracking_pll<T> pll;
+    dqfx::angle measured;
+  };
+  template <class T> using output = estimate<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    dqfx::tracking_pll<T> pll{dqfx::tracking_pll_parameters{502.65, 1.0, 6283.1853, 50e-6}};
+    const dqfx::angle a = dqfx::angle::from_raw(r.next());
+    pll.reset(a, any_value<T>(r) * dqfx::from_double<T>(0.5));
+    return {pll, a + dqfx::angle::from_raw(r.next() >> 8)};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    in.pll.update(in.measured);
+    return estimate<T>::of(in.pll.position(), in.pll.speed());
+  }
+};
+
+struct encoder_update {
+  static constexpr const char* name = "encoder::update";
+  using types = all_types;
+  template <class T> struct input {
+    dqfx::encoder<T> encoder;
+    std::uint32_t count, edge, now;
+  };
+  template <class T> using output = estimate<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    dqfx::encoder_parameters p{};
+    p.counts_per_turn = 4000;
+    p.pole_pairs = 4;
+    p.base_speed = 6283.1853;
+    p.sample_time = 50e-6;
+    p.tick_frequency = 100e6;
+    p.filter_bandwidth = 2000;
+    dqfx::encoder<T> e{p};
+    const std::uint32_t c = r.next() & 0xFFFFu;
+    for (std::uint32_t k = 0; k < 20; ++k) e.update((c + 15 * k) & 0xFFFFu, 5000 * k - 40, 5000 * k);
+    return {e, (c + 15 * 20 + (r.next() & 7u)) & 0xFFFFu, 5000 * 20 - 33, 5000 * 20};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    in.encoder.update(in.count, in.edge, in.now);
+    return estimate<T>::of(in.encoder.electrical_angle(), in.encoder.speed());
+  }
+};
+
+struct hall_update {
+  static constexpr const char* name = "hall_sensor::update";
+  using types = all_types;
+  template <class T> struct input {
+    dqfx::hall_sensor<T> hall;
+    std::uint8_t state;
+    std::uint32_t edge, now;
+  };
+  template <class T> using output = estimate<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    constexpr std::uint8_t order[6] = {1, 3, 2, 6, 4, 5};
+    dqfx::hall_sensor<T> h{dqfx::hall_parameters{
+        dqfx::hall_table::evenly({1, 3, 2, 6, 4, 5}, dqfx::angle::from_degrees(-30)), 6283.1853, 50e-6, 10e6, 0.005}};
+    const std::uint32_t first = r.next() % 6;
+    for (std::uint32_t k = 0; k < 3; ++k) h.update(order[(first + k) % 6], 5000 * k, 5000 * k + 100);
+    // Either the next edge now or a sample between edges.
+    const bool edge = (r.next() & 1u) != 0;
+    const std::uint8_t s = order[(first + (edge ? 3 : 2)) % 6];
+    return {h, s, edge ? 15000u : 10000u, 15000u + (r.next() & 1023u)};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    in.hall.update(in.state, in.edge, in.now);
+    return estimate<T>::of(in.hall.electrical_angle(), in.hall.speed());
+  }
+};
+
+struct observer_update {
+  static constexpr const char* name = "flux_observer::update";
+  using types = all_types;
+  template <class T> struct input {
+    dqfx::flux_observer<T> observer;
+    dqfx::stationary<T> current, voltage;
+  };
+  template <class T> using output = estimate<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Invented interior-magnet motor in per unit (R, Ld, Lq, flux).
+    dqfx::flux_observer_parameters p{};
+    p.resistance = 0.0333;
+    p.ld = 0.314;
+    p.lq = 0.419;
+    p.flux = 0.419;
+    p.convergence_rate = 300;
+    p.base_speed = 6283.1853;
+    p.sample_time = 50e-6;
+    p.pll_frequency = 502.65;
+    p.minimum_speed = 0.05;
+    dqfx::flux_observer<T> o{p};
+    const dqfx::sincos<T> sc = dqfx::sincos_of<T>(dqfx::angle::from_raw(r.next()));
+    o.reset(dqfx::angle::from_raw(r.next()), dqfx::from_double<T>(0.3));
+    const T i = dqfx::from_double<T>(0.4), v = dqfx::from_double<T>(0.13);
+    return {o, {-(i * sc.sin), i * sc.cos}, {-(v * sc.sin), v * sc.cos}};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    in.observer.update(in.current, in.voltage);
+    return estimate<T>::of(in.observer.position(), in.observer.speed());
+  }
+};
+
 /// Every kernel the harness times, in report order.
 template <class... K> struct kernel_list {};
 using timed_kernels = kernel_list<textbook_current_step, current_step, multiply, gain_multiply, sum_of_products,
                                   angle_advance, sine_cosine, vector_angle, vector_magnitude,
                                   clarke_transform, park_transform, inverse_park_transform,
-                                  space_vector_modulation, pi_step>;
-
-// Adversarial inputs: the same kernels on the corner cases the fuzzers (tests/fuzz) probe,
-// so that the report's worst case covers them, not only random inputs: saturation corners
-// (-1, one LSB above it, 1 - LSB, 1, zero and one LSB either side), binary angles on the
-// octant and sector boundaries and one unit either side, commands at the boundary of
-// the linear modulation range (where over-modulation divides) and bus voltages down to
-// one LSB (the longest division), regulators wound up against their limits.
-
-/// A value from the saturation corners: -1, -1 + LSB, -1/2, -LSB, 0, LSB, 1/2, 1 - LSB,
-/// 1 (saturated to max() for q15/q31); LSB is the machine epsilon for float and double.
-template <class T>
-T corner_value(random_bits& r) noexcept {
-  constexpr double e = dqfx::number_traits<T>::lsb;
-  constexpr double corners[] = {-1.0, -1.0 + e, -0.5, -e, 0.0, e, 0.5, 1.0 - e, 1.0};
-  return dqfx::from_double<T>(corners[r.next() % 9]);
-}
-
-/// A binary angle on an octant or 60-degree sector boundary, or one unit either side.
-inline dqfx::angle boundary_angle(random_bits& r) noexcept {
-  const std::uint32_t u = r.next();
-  const std::uint32_t k = (u >> 8) % 14;  // 8 octant and 6 sector boundaries (some shared)
-  const std::uint32_t base = k < 8 ? k << 29 : static_cast<std::uint32_t>((std::uint64_t{k - 8} << 32) / 6);
-  return dqfx::angle::from_raw(base + (u & 3u) - 1u);
-}
-
-/// A vector at a boundary angle with a length from just inside the linear range of space-
-/// vector modulation (1/sqrt(3) relative to the bus) to well beyond it.
-template <class T>
-dqfx::stationary<T> boundary_vector(random_bits& r) noexcept {
-  constexpr double lengths[] = {0.5, 0.5773, 0.5774, 0.75, 1.0};
-  const dqfx::sincos<T> sc = dqfx::sincos_of<T>(boundary_angle(r));
-  const T length = dqfx::from_double<T>(lengths[r.next() % 5]);
-  return {sc.cos * length, sc.sin * length};
-}
-
-struct multiply_corners : multiply {
-  static constexpr const char* name = "a*b@corners";
-  template <class T> static input<T> make(random_bits& r) noexcept { return {corner_value<T>(r), corner_value<T>(r)}; }
-};
-
-struct sine_cosine_boundaries : sine_cosine {
-  static constexpr const char* name = "sincos_of@boundaries";
-  template <class T> static input<T> make(random_bits& r) noexcept { return {boundary_angle(r)}; }
-};
-
-struct vector_angle_corners : vector_angle {
-  static constexpr const char* name = "angle_of@corners";
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    // Octant boundaries (x, +/-x), the axes, and vectors of one LSB.
-    const T x = corner_value<T>(r);
-    switch (r.next() % 3) {
-      case 0: return {x, r.next() % 2 == 0 ? x : -x};
-      case 1: return {x, T{}};
-      default: return {corner_value<T>(r), corner_value<T>(r)};
-    }
-  }
-};
-
-struct vector_magnitude_corners : vector_magnitude {
-  static constexpr const char* name = "magnitude@corners";
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    return vector_angle_corners::make<T>(r);
-  }
-};
-
-struct clarke_corners : clarke_transform {
-  static constexpr const char* name = "clarke@corners";
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    return {corner_value<T>(r), corner_value<T>(r), corner_value<T>(r)};
-  }
-};
-
-struct park_corners : park_transform {
-  static constexpr const char* name = "park@corners";
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    return {{corner_value<T>(r), corner_value<T>(r)}, dqfx::sincos_of<T>(boundary_angle(r))};
-  }
-};
-
-struct svm_boundaries : space_vector_modulation {
-  static constexpr const char* name = "svm@boundaries";
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    return r.next() % 4 == 0 ? input<T>{corner_value<T>(r), corner_value<T>(r)} : boundary_vector<T>(r);
-  }
-};
-
-struct svm_with_bus_corners {
-  static constexpr const char* name = "svm(bus)@corners";
-  using types = all_types;
-  template <class T> struct input { dqfx::stationary<T> command; T bus; };
-  template <class T> using output = dqfx::phases<T>;
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    // Bus voltages from one LSB (every command over-modulates; the longest division) to 1.
-    constexpr double e = dqfx::number_traits<T>::is_fixed ? dqfx::number_traits<T>::lsb : 1e-30;
-    constexpr double buses[] = {e, 0.05, 0.36, 0.8, 1.0};
-    return {boundary_vector<T>(r), dqfx::from_double<T>(buses[r.next() % 5])};
-  }
-  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
-    return dqfx::svm(in.command, in.bus).duty;
-  }
-};
-
-struct pi_step_corners : pi_step {
-  static constexpr const char* name = "pi_regulator::step@corners";
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    // The same invented tuning, the integrator wound up against a limit or beyond.
-    dqfx::pi_regulator<T> regulator{dqfx::pi_parameters{0.8, 0.05, 0.5, -0.9, 0.9}};
-    regulator.preload(corner_value<T>(r));
-    return {regulator, corner_value<T>(r)};
-  }
-};
-
-struct current_step_corners : current_step {
-  static constexpr const char* name = "current_loop::step@corners";
-  static constexpr role kind = role::part;
-  template <class T> static input<T> make(random_bits& r) noexcept {
-    // Saturated currents, speeds and set-points, a rotor on a sector boundary, a low or
-    // full bus, wound-up integrators: the voltage limit and the modulator's division.
-    constexpr double buses[] = {0.05, 0.36, 1.0};
-    input<T> in{dqfx::current_loop<T>{parameters},
-                {corner_value<T>(r), corner_value<T>(r), corner_value<T>(r)},
-                boundary_angle(r),
-                corner_value<T>(r),
-                {corner_value<T>(r), corner_value<T>(r)},
-                dqfx::from_double<T>(buses[r.next() % 3])};
-    in.loop.d_regulator().preload(corner_value<T>(r));
-    in.loop.q_regulator().preload(corner_value<T>(r));
-    return in;
-  }
-};
-
-using adversarial_kernels = kernel_list<current_step_corners, multiply_corners, sine_cosine_boundaries,
-                                        vector_angle_corners, vector_magnitude_corners, clarke_corners,
-                                        park_corners, svm_boundaries, svm_with_bus_corners, pi_step_corners>;
+                                  space_vector_modulation, pi_step, pll_update, encoder_update, hall_update,
+                                  observer_update>;
 
 // The registry: one entry per (kernel, type).
 
@@ -551,7 +544,6 @@ void for_each_kernel(F& f, kernel_list<K...>) {
 template <class F>
 void for_each_entry(F f) {
   for_each_kernel(f, timed_kernels{});
-  for_each_kernel(f, adversarial_kernels{});
 }
 
 template <class K, class... T>
@@ -564,8 +556,7 @@ constexpr std::size_t largest_record(kernel_list<K...>) noexcept {
 }
 /// Bytes of the largest input or output record: the harness's buffers hold `samples` of
 /// them.
-inline constexpr std::size_t record_capacity =
-    std::max(largest_record(timed_kernels{}), largest_record(adversarial_kernels{}));
+inline constexpr std::size_t record_capacity = largest_record(timed_kernels{});
 
 /// FNV-1a, 64 bit (G. Fowler, L. C. Noll, K.-P. Vo; IETF draft-eastlake-fnv): a digest
 /// of the outputs that host and target print and compare.
