@@ -127,6 +127,12 @@ struct phase_order {
 inline constexpr phase_order phase_orders[8] = {{1, 0, 1, 2}, {4, 2, 1, 0}, {2, 1, 0, 2}, {3, 1, 2, 0},
                                                 {6, 0, 2, 1}, {5, 2, 0, 1}, {1, 0, 1, 2}, {1, 0, 1, 2}};
 
+/// v[i] for i in 0..2, by selection rather than an indexed load.
+template <class E>
+constexpr E pick(const E (&v)[3], unsigned i) noexcept {
+  return i == 0 ? v[0] : (i == 1 ? v[1] : v[2]);
+}
+
 template <class E>
 constexpr E clamp_duty(E d, E full) noexcept {
   return d > full ? full : (d < E{} ? E{} : d);
@@ -146,15 +152,15 @@ constexpr modulation_result<T> modulate(stationary<T> command, extended<T> bus) 
   const E s = exact_sum<T>{command.beta} * sqrt3;
   const E v[3] = {alpha, (s - alpha).half(), (-(s + alpha)).half()};
   const phase_order o = phase_orders[above(v[0], v[1], v[2]) * 4 + above(v[1], v[2], v[0]) * 2 + above(v[2], v[0], v[1])];
-  const E top = v[o.top], bottom = v[o.bottom];
+  const E top = pick(v, o.top), bottom = pick(v, o.bottom);
   if (!(top - bottom).is_finite()) return faulted_modulation<T>();
 
   modulation_result<T> out{};
   out.sector = o.sector;
   const E half{from_double<T>(0.5)}, full{full_duty<T>()};
-  E d[3]{};
 
   if constexpr (std::is_same_v<Scheme, modulation::sinusoidal>) {
+    E d[3]{};
     // Duty offsets are the references themselves; the hexagon is |v_x| <= bus/2.
     const E peak = top > -bottom ? top : -bottom;
     E x[3] = {v[0], v[1], v[2]};
@@ -183,11 +189,12 @@ constexpr modulation_result<T> modulate(stationary<T> command, extended<T> bus) 
       for (int p = 0; p < 3; ++p) d[p] = half + over(x[p]);
     }
     for (E& r : d) r = clamp_duty(r, full);
+    out.duty = {d[0].rounded(), d[1].rounded(), d[2].rounded()};
   } else {
     // Hexagon schemes: the top and bottom phases sit symmetrically about their middle,
     // at +/- q_top; only the middle phase has an offset of its own.
     const E spread = top - bottom;
-    E x_middle = v[o.middle] - (top + bottom).half();
+    E x_middle = pick(v, o.middle) - (top + bottom).half();
     E q_top{}, q_middle{};
     out.limited = spread > bus;
     if (!out.limited) {
@@ -211,29 +218,33 @@ constexpr modulation_result<T> modulate(stationary<T> command, extended<T> bus) 
     // The scheme's zero sequence.
     bool to_top = std::is_same_v<Scheme, modulation::clamp_high>;
     if constexpr (std::is_same_v<Scheme, modulation::clamp_peak>) to_top = top + bottom >= E{};
+    // Duties by rank (top, middle, bottom), handed to the phases at the end: no
+    // indexed stores, which cost a round trip through memory.
+    E d_top{}, d_middle{}, d_bottom{};
     if constexpr (std::is_same_v<Scheme, modulation::centred>) {
-      d[o.top] = half + q_top;
-      d[o.middle] = half + q_middle;
-      d[o.bottom] = half - q_top;
+      d_top = half + q_top;
+      d_middle = half + q_middle;
+      d_bottom = half - q_top;
     } else {
       static_assert(std::is_same_v<Scheme, modulation::clamp_low> || std::is_same_v<Scheme, modulation::clamp_high> ||
                         std::is_same_v<Scheme, modulation::clamp_peak>,
                     "unknown modulation scheme");
       if (to_top) {
-        d[o.top] = full;
-        d[o.middle] = full - (q_top - q_middle);
-        d[o.bottom] = full - q_top * 2;
+        d_top = full;
+        d_middle = full - (q_top - q_middle);
+        d_bottom = full - q_top * 2;
       } else {
-        d[o.top] = q_top * 2;
-        d[o.middle] = q_middle + q_top;
-        d[o.bottom] = E{};
+        d_top = q_top * 2;
+        d_middle = q_middle + q_top;
+        d_bottom = E{};
       }
     }
-    d[o.top] = clamp_duty(d[o.top], full);
-    d[o.middle] = clamp_duty(d[o.middle], full);
-    d[o.bottom] = clamp_duty(d[o.bottom], full);
+    const T duty_top = clamp_duty(d_top, full).rounded();
+    const T duty_middle = clamp_duty(d_middle, full).rounded();
+    const T duty_bottom = clamp_duty(d_bottom, full).rounded();
+    const auto phase = [&](unsigned p) { return p == o.top ? duty_top : (p == o.bottom ? duty_bottom : duty_middle); };
+    out.duty = {phase(0), phase(1), phase(2)};
   }
-  out.duty = {d[0].rounded(), d[1].rounded(), d[2].rounded()};
   return out;
 }
 
@@ -249,7 +260,7 @@ constexpr modulation_result<T> svm(stationary<T> command_per_bus) noexcept {
 }
 
 /// Space-vector modulation of a command and a DC-bus voltage in the same per-unit base.
-/// One reciprocal per call (q15/q31: a 64-bit integer division).
+/// One reciprocal per call (q15/q31: three Newton steps in integer multiplies).
 template <class Scheme = modulation::centred, class Limit = overmodulation::keep_angle, class T>
 constexpr modulation_result<T> svm(stationary<T> command, T bus) noexcept {
   if (!detail::finite_value(command.alpha) || !detail::finite_value(command.beta) || !detail::usable_bus(bus))
