@@ -122,6 +122,11 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
   static constexpr state product(state v, gain_type g) noexcept {
     const state m = g.mantissa();
     const int s = g.shift();
+    // |v| < 2^31 (errors and excesses below one): a single 32x32->64 product rounded
+    // once, the same value as the split below at a fraction of its cost.
+    if (v >= INT32_MIN && v <= INT32_MAX) {
+      return clamp(detail::product_round_shift(static_cast<std::int32_t>(v), g.mantissa(), 31 - s));
+    }
     // Beyond the headroom already by the whole part of |v| / 2^31: saturate before the
     // shifted terms below could overflow. (Not by `high`: for a small negative v it is
     // -1, and its term cancels against the low one.)
@@ -216,14 +221,14 @@ class pi_regulator {
   /// non-finite float error or feed-forward gives output 0 (clamped into the limits)
   /// and `input_fault`.
   constexpr pi_proposal<T> propose(T error, T feed_forward = T{}) const noexcept {
-    if (!arith::finite(error)) return faulty();
-    return propose_error(arith::widen(error), feed_forward);
+    return propose_error(arith::widen(error), feed_forward);  // which checks both
   }
 
   /// The same for the error setpoint - measurement, formed at full range: in q15/q31
   /// a set-point of 0.8 against a measurement of -0.4 is an error of 1.2, not max().
   constexpr pi_proposal<T> propose_from(T setpoint, T measurement, T feed_forward) const noexcept {
-    if (!arith::finite(setpoint) || !arith::finite(measurement)) return faulty();
+    // A non-finite set-point or measurement makes the difference non-finite, which
+    // propose_error refuses: no separate check needed.
     return propose_error(arith::widen(setpoint) - arith::widen(measurement), feed_forward);
   }
 
@@ -299,12 +304,9 @@ class pi_regulator {
   constexpr pi_proposal<T> propose_error(state error, T feed_forward) const noexcept {
     // float/double: set-point minus measurement can overflow to infinity.
     if (!arith::finite(error) || !arith::finite(feed_forward)) return faulty();
-    pi_proposal<T> p{};
-    p.error = error;
-    p.sum = arith::add(arith::add(arith::product(error, kp_), x_), arith::widen(feed_forward));
-    p.unlimited = arith::narrow(p.sum);
-    p.output = clamp(p.unlimited);
-    return p;
+    const state sum = arith::add(arith::add(arith::product(error, kp_), x_), arith::widen(feed_forward));
+    const T unlimited = arith::narrow(sum);
+    return {clamp(unlimited), unlimited, false, error, sum};
   }
 
   /// float/double: an integrator update that overflows (gains or inputs near the float
