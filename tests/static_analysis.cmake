@@ -16,7 +16,7 @@ add_test(NAME static.clang_tidy.headers
   COMMAND ${CMAKE_COMMAND} -DCLANG_TIDY=${DQFX_CLANG_TIDY} -DCONFIG=${PROJECT_SOURCE_DIR}/.clang-tidy
           -DINCLUDE_DIR=${PROJECT_SOURCE_DIR}/include "-DFLAGS=${dqfx_tidy_flags}"
           -DWORK_DIR=${CMAKE_CURRENT_BINARY_DIR}/static -P ${PROJECT_SOURCE_DIR}/cmake/check_clang_tidy.cmake)
-file(GLOB dqfx_tidy_sources ${CMAKE_CURRENT_SOURCE_DIR}/fuzz/fuzz_*.cpp)
+file(GLOB dqfx_tidy_sources CONFIGURE_DEPENDS ${CMAKE_CURRENT_SOURCE_DIR}/fuzz/fuzz_*.cpp)
 list(APPEND dqfx_tidy_sources ${CMAKE_CURRENT_SOURCE_DIR}/golden/golden.cpp)
 set(dqfx_static_tests static.clang_tidy.headers)
 foreach(source IN LISTS dqfx_tidy_sources)
@@ -27,11 +27,11 @@ foreach(source IN LISTS dqfx_tidy_sources)
   list(APPEND dqfx_static_tests static.clang_tidy.${stem})
 endforeach()
 
-file(GLOB_RECURSE dqfx_all_headers ${PROJECT_SOURCE_DIR}/include/dqfx/*.hpp)
+file(GLOB_RECURSE dqfx_all_headers CONFIGURE_DEPENDS ${PROJECT_SOURCE_DIR}/include/dqfx/*.hpp)
 add_test(NAME static.cppcheck
   COMMAND ${DQFX_CPPCHECK} --enable=warning,style,performance,portability --std=c++17 --language=c++
           --inline-suppr --error-exitcode=1 --quiet --suppress=missingIncludeSystem
           --suppressions-list=${PROJECT_SOURCE_DIR}/cmake/cppcheck-suppressions.txt
-          -I ${PROJECT_SOURCE_DIR}/include ${PROJECT_SOURCE_DIR}/include/dqfx)
+          -I ${PROJECT_SOURCE_DIR}/include ${dqfx_all_headers})
 list(APPEND dqfx_static_tests static.cppcheck)
 set_tests_properties(${dqfx_static_tests} PROPERTIES LABELS static TIMEOUT 900)

@@ -4,6 +4,7 @@
 // documented in transforms.hpp of the exact result (long double textbook matrices,
 // tests/reference/transforms_reference.hpp), saturated to T's range for q15/q31. Any
 // other float input (NaN, infinities, huge values) must simply not fail.
+#include <algorithm>
 #include <cmath>
 #include <initializer_list>
 
@@ -40,10 +41,7 @@ void expect(T got, real exact_result, real extra = 0) {
 
 template <class T>
 bool all_unit(std::initializer_list<T> values) {
-  for (T v : values) {
-    if (!(std::fabs(exact(v)) <= 1)) return false;
-  }
-  return true;
+  return std::all_of(values.begin(), values.end(), [](T v) { return std::fabs(exact(v)) <= 1; });
 }
 
 template <class T, class Scaling>
