@@ -83,10 +83,16 @@ namespace detail {
 // Deliberately not constexpr: reaching it in a constexpr loop stops compilation.
 inline void tracking_pll_design_out_of_range() noexcept {}
 
-/// a rounded to the nearest integer (ties away from zero), |a| < 2^31 - 128: a 32-bit
-/// conversion, which FPUs do in one instruction (a 64-bit one is a library call).
+/// a rounded to the nearest integer (ties away from zero): a 32-bit conversion, which
+/// FPUs do in one instruction (a 64-bit one is a library call). Defined for every input:
+/// beyond +/-(2^31 - 128) it saturates there, and NaN gives 0 (a state that went
+/// non-finite must not reach the conversion, whose result would be undefined).
 template <class F>
 constexpr std::int32_t nearest_integer(F a) noexcept {
+  constexpr F limit = F(2147483520.0);
+  if (!(a == a)) return 0;
+  if (a >= limit) return 2147483520;
+  if (a <= -limit) return -2147483520;
   return a < F{0} ? -static_cast<std::int32_t>(F{0.5} - a) : static_cast<std::int32_t>(a + F{0.5});
 }
 
