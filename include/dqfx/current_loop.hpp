@@ -156,17 +156,18 @@ class current_loop {
         radius_{radius_of(p.modulation_limit)} {}
 
   /// One PWM period. Not constexpr for float/double (std::sqrt). Fixed point: no
-  /// libm; one 64-bit division (in svm) and one integer square root per call.
+  /// libm; one reciprocal (in svm, Newton steps in integer multiplies) and one integer
+  /// square root per call.
   current_loop_output<T> step(const current_loop_input<T>& in) noexcept {
-    current_loop_output<T> out{};
     if (!valid(in)) {
+      current_loop_output<T> out{};
       const T half = from_double<T>(0.5);
       out.duty = {half, half, half};
       out.fault = true;
       return out;
     }
-    out.current = park(clarke(in.current), in.rotor);
-    const T id = out.current.d, iq = out.current.q, w = in.speed;
+    const rotating<T> current = park(clarke(in.current), in.rotor);
+    const T id = current.d, iq = current.q, w = in.speed;
 
     const T feed_d = -((w * iq) * lq_);
     const T feed_q = (w * id) * ld_ + w * flux_;
@@ -181,14 +182,11 @@ class current_loop {
     d_.commit(pd, vd);
     q_.commit(pq, vq);
 
-    out.voltage = {vd, vq};
-    out.voltage_limit = r;
-    out.voltage_limited = vd != pd.output || vq != pq.output;
-    out.voltage_stationary = inverse_park(out.voltage, in.rotor);
-    const modulation_result<T> m = svm<Scheme>(out.voltage_stationary, in.bus_voltage);
-    out.duty = m.duty;
-    out.sector = m.sector;
-    return out;
+    // Built whole at the end: no zero fill of a result that is overwritten anyway.
+    const rotating<T> voltage{vd, vq};
+    const stationary<T> voltage_stationary = inverse_park(voltage, in.rotor);
+    const modulation_result<T> m = svm<Scheme>(voltage_stationary, in.bus_voltage);
+    return {m.duty, voltage, voltage_stationary, current, r, m.sector, vd != pd.output || vq != pq.output, false};
   }
 
   /// Clears both integrators (e.g. before enabling the bridge).
