@@ -250,7 +250,10 @@ class pi_regulator {
                           (excess < state{} && increment < state{});
       if (!deeper) set_integral(arith::add(x_, increment));
     } else if constexpr (std::is_same_v<AntiWindup, back_calculation>) {
-      set_integral(arith::add(x_, increment - arith::product(excess, kt_)));
+      // Fixed point, not limited (the usual case): no tracking term, and no wide product
+      // to form. (Float: one multiply is cheaper than the test.)
+      const state tracking = is_fixed_v<T> && excess == state{} ? state{} : arith::product(excess, kt_);
+      set_integral(arith::add(x_, increment - tracking));
     } else {
       set_integral(arith::add(x_, increment));
     }
