@@ -473,6 +473,140 @@ using timed_kernels = kernel_list<textbook_current_step, current_step, multiply,
                                   space_vector_modulation, pi_step, pll_update, encoder_update, hall_update,
                                   observer_update>;
 
+// Adversarial inputs: the same kernels on the corner cases the fuzzers (tests/fuzz) probe,
+// so that the report's worst case covers them, not only random inputs: saturation corners
+// (-1, one LSB above it, 1 - LSB, 1, zero and one LSB either side), binary angles on the
+// octant and sector boundaries and one unit either side, commands at the boundary of
+// the linear modulation range (where over-modulation divides) and bus voltages down to
+// one LSB (the longest division), regulators wound up against their limits.
+
+/// A value from the saturation corners: -1, -1 + LSB, -1/2, -LSB, 0, LSB, 1/2, 1 - LSB,
+/// 1 (saturated to max() for q15/q31); LSB is the machine epsilon for float and double.
+template <class T>
+T corner_value(random_bits& r) noexcept {
+  constexpr double e = dqfx::number_traits<T>::lsb;
+  constexpr double corners[] = {-1.0, -1.0 + e, -0.5, -e, 0.0, e, 0.5, 1.0 - e, 1.0};
+  return dqfx::from_double<T>(corners[r.next() % 9]);
+}
+
+/// A binary angle on an octant or 60-degree sector boundary, or one unit either side.
+inline dqfx::angle boundary_angle(random_bits& r) noexcept {
+  const std::uint32_t u = r.next();
+  const std::uint32_t k = (u >> 8) % 14;  // 8 octant and 6 sector boundaries (some shared)
+  const std::uint32_t base = k < 8 ? k << 29 : static_cast<std::uint32_t>((std::uint64_t{k - 8} << 32) / 6);
+  return dqfx::angle::from_raw(base + (u & 3u) - 1u);
+}
+
+/// A vector at a boundary angle with a length from just inside the linear range of space-
+/// vector modulation (1/sqrt(3) relative to the bus) to well beyond it.
+template <class T>
+dqfx::stationary<T> boundary_vector(random_bits& r) noexcept {
+  constexpr double lengths[] = {0.5, 0.5773, 0.5774, 0.75, 1.0};
+  const dqfx::sincos<T> sc = dqfx::sincos_of<T>(boundary_angle(r));
+  const T length = dqfx::from_double<T>(lengths[r.next() % 5]);
+  return {sc.cos * length, sc.sin * length};
+}
+
+struct multiply_corners : multiply {
+  static constexpr const char* name = "a*b@corners";
+  template <class T> static input<T> make(random_bits& r) noexcept { return {corner_value<T>(r), corner_value<T>(r)}; }
+};
+
+struct sine_cosine_boundaries : sine_cosine {
+  static constexpr const char* name = "sincos_of@boundaries";
+  template <class T> static input<T> make(random_bits& r) noexcept { return {boundary_angle(r)}; }
+};
+
+struct vector_angle_corners : vector_angle {
+  static constexpr const char* name = "angle_of@corners";
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Octant boundaries (x, +/-x), the axes, and vectors of one LSB.
+    const T x = corner_value<T>(r);
+    switch (r.next() % 3) {
+      case 0: return {x, r.next() % 2 == 0 ? x : -x};
+      case 1: return {x, T{}};
+      default: return {corner_value<T>(r), corner_value<T>(r)};
+    }
+  }
+};
+
+struct vector_magnitude_corners : vector_magnitude {
+  static constexpr const char* name = "magnitude@corners";
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return vector_angle_corners::make<T>(r);
+  }
+};
+
+struct clarke_corners : clarke_transform {
+  static constexpr const char* name = "clarke@corners";
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {corner_value<T>(r), corner_value<T>(r), corner_value<T>(r)};
+  }
+};
+
+struct park_corners : park_transform {
+  static constexpr const char* name = "park@corners";
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return {{corner_value<T>(r), corner_value<T>(r)}, dqfx::sincos_of<T>(boundary_angle(r))};
+  }
+};
+
+struct svm_boundaries : space_vector_modulation {
+  static constexpr const char* name = "svm@boundaries";
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    return r.next() % 4 == 0 ? input<T>{corner_value<T>(r), corner_value<T>(r)} : boundary_vector<T>(r);
+  }
+};
+
+struct svm_with_bus_corners {
+  static constexpr const char* name = "svm(bus)@corners";
+  using types = all_types;
+  template <class T> struct input { dqfx::stationary<T> command; T bus; };
+  template <class T> using output = dqfx::phases<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Bus voltages from one LSB (every command over-modulates; the longest division) to 1.
+    constexpr double e = dqfx::number_traits<T>::is_fixed ? dqfx::number_traits<T>::lsb : 1e-30;
+    constexpr double buses[] = {e, 0.05, 0.36, 0.8, 1.0};
+    return {boundary_vector<T>(r), dqfx::from_double<T>(buses[r.next() % 5])};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::svm(in.command, in.bus).duty;
+  }
+};
+
+struct pi_step_corners : pi_step {
+  static constexpr const char* name = "pi_regulator::step@corners";
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // The same invented tuning, the integrator wound up against a limit or beyond.
+    dqfx::pi_regulator<T> regulator{dqfx::pi_parameters{0.8, 0.05, 0.5, -0.9, 0.9}};
+    regulator.preload(corner_value<T>(r));
+    return {regulator, corner_value<T>(r)};
+  }
+};
+
+struct current_step_corners : current_step {
+  static constexpr const char* name = "current_loop::step@corners";
+  static constexpr role kind = role::part;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // Saturated currents, speeds and set-points, a rotor on a sector boundary, a low or
+    // full bus, wound-up integrators: the voltage limit and the modulator's division.
+    constexpr double buses[] = {0.05, 0.36, 1.0};
+    input<T> in{dqfx::current_loop<T>{parameters},
+                {corner_value<T>(r), corner_value<T>(r), corner_value<T>(r)},
+                boundary_angle(r),
+                corner_value<T>(r),
+                {corner_value<T>(r), corner_value<T>(r)},
+                dqfx::from_double<T>(buses[r.next() % 3])};
+    in.loop.d_regulator().preload(corner_value<T>(r));
+    in.loop.q_regulator().preload(corner_value<T>(r));
+    return in;
+  }
+};
+
+using adversarial_kernels = kernel_list<current_step_corners, multiply_corners, sine_cosine_boundaries,
+                                        vector_angle_corners, vector_magnitude_corners, clarke_corners,
+                                        park_corners, svm_boundaries, svm_with_bus_corners, pi_step_corners>;
+
 // The registry: one entry per (kernel, type).
 
 /// The number of inputs per kernel (a board short of RAM may build with fewer).
@@ -544,6 +678,7 @@ void for_each_kernel(F& f, kernel_list<K...>) {
 template <class F>
 void for_each_entry(F f) {
   for_each_kernel(f, timed_kernels{});
+  for_each_kernel(f, adversarial_kernels{});
 }
 
 template <class K, class... T>
@@ -556,7 +691,8 @@ constexpr std::size_t largest_record(kernel_list<K...>) noexcept {
 }
 /// Bytes of the largest input or output record: the harness's buffers hold `samples` of
 /// them.
-inline constexpr std::size_t record_capacity = largest_record(timed_kernels{});
+inline constexpr std::size_t record_capacity =
+    std::max(largest_record(timed_kernels{}), largest_record(adversarial_kernels{}));
 
 /// FNV-1a, 64 bit (G. Fowler, L. C. Noll, K.-P. Vo; IETF draft-eastlake-fnv): a digest
 /// of the outputs that host and target print and compare.
