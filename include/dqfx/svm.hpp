@@ -37,7 +37,9 @@
 /// guard bits (cheap on a 32-bit core); q31 carries the 32-bit constant sqrt(3) and (with
 /// a bus) a 32-bit reciprocal. For q15/q31, whose range stops one LSB short of 1, a
 /// duty of max() stands for 100 % (the PWM conversion maps it to the full period) and
-/// `clamp_high` ties its phase exactly there.
+/// `clamp_high` ties its phase exactly there. Because [0, max()] is one LSB shorter than
+/// [0, 1], a duty that ends on either rail (0 or max()) may be one LSB further from its
+/// exact value than the bounds above, which hold for every duty strictly between.
 ///
 /// Bad input: a NaN or infinite float command or bus voltage, a bus voltage that is
 /// zero, negative or (float/double) subnormal, or a command so large that its phase
