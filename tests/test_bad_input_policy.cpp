@@ -14,11 +14,15 @@
 #include "dqfx/angle.hpp"
 #include "dqfx/current_loop.hpp"
 #include "dqfx/current_sensing.hpp"
+#include "dqfx/encoder.hpp"
+#include "dqfx/flux_observer.hpp"
+#include "dqfx/hall.hpp"
 #include "dqfx/pi_regulator.hpp"
 #include "dqfx/polar.hpp"
 #include "dqfx/pwm.hpp"
 #include "dqfx/sincos.hpp"
 #include "dqfx/svm.hpp"
+#include "dqfx/tracking_pll.hpp"
 #include "dqfx/transforms.hpp"
 
 using dqfx::q15;
@@ -271,6 +275,40 @@ TEST_CASE_TEMPLATE("Policy 9: a missing, railed or out-of-range ADC sample is fl
   CHECK_FALSE(spread.accepted());
 }
 
+TEST_CASE_TEMPLATE("Policy 9: an ADC format outside 8..16 bits is a parameter fault: no usable sample, zero current",
+                   T, q15, q31, float, double) {
+  for (unsigned bits : {0u, 7u, 17u, 32u, 4294967295u}) {
+    const dqfx::adc_format adc{bits, 0};
+    CHECK_FALSE(adc.valid());
+    CHECK(adc.largest_code() == 0u);  // every code counts as railed
+    const auto channel = dqfx::current_channel<T>::from_amplifier(adc, -0.02, 10.0);
+    CHECK(channel.parameter_fault());
+    for (std::uint16_t code : {std::uint16_t{0}, std::uint16_t{2048}, std::uint16_t{65535}}) {
+      CHECK_FALSE(channel.usable({code, true}));
+      CHECK(channel.reading(code) == T{});
+      CHECK(channel.current(code) == T{});
+    }
+    const dqfx::two_sensor<T> two{channel, channel};
+    const auto m = two.reconstruct({2100, true}, {2000, true});
+    CHECK_FALSE(m.valid);
+    CHECK(m.railed == 3);
+    dqfx::offset_calibration<T> cal{adc, 2, 10};
+    CHECK(cal.parameter_fault());
+    cal.add({2048, true});
+    cal.add({2048, true});
+    CHECK(cal.complete());
+    CHECK_FALSE(cal.accepted());
+    CHECK(cal.offset() == T{});
+  }
+  // The edges of the range are valid. (A constexpr channel on an invalid format does not
+  // compile: tests/compile_fail/adc_bits_out_of_range.cpp.)
+  for (unsigned bits : {8u, 16u}) {
+    const auto channel = dqfx::current_channel<T>::from_amplifier(dqfx::adc_format{bits, 0}, -0.02, 10.0);
+    CHECK_FALSE(channel.parameter_fault());
+    CHECK(channel.usable({100, true}));
+  }
+}
+
 TEST_CASE_TEMPLATE("Policy 10: the PI regulator refuses non-finite inputs and overflow, and orders its limits", T,
                    q15, q31, float, double) {
   dqfx::pi_regulator<T> pi{dqfx::pi_parameters{0.8, 0.05, 0.5, -0.5, 0.5}};
@@ -360,4 +398,156 @@ TEST_CASE_TEMPLATE("Policy 11: the current loop gives 50 % duties, zero voltage 
   const auto out = loop.step(good_loop_input<T>());
   CHECK_FALSE(out.fault);
   CHECK((in_duty_range(out.duty.a) && in_duty_range(out.duty.b) && in_duty_range(out.duty.c)));
+}
+
+namespace {
+
+// Invented estimator designs: 20 kHz sampling, speed 1.0 = 1000 Hz electrical.
+constexpr double two_pi = 6.283185307179586477;
+constexpr double est_ts = 50e-6;
+constexpr double est_base = two_pi * 1000;
+// The base speed at which speed 1.0 moves exactly one binary-angle unit per sample.
+constexpr double one_unit_base = two_pi / 4294967296.0 / est_ts;
+
+dqfx::tracking_pll_parameters pll_design(double base_speed) { return {two_pi * 80, 1.0, base_speed, est_ts}; }
+
+dqfx::encoder_parameters encoder_design(double base_speed, double tick_frequency = 100e6) {
+  dqfx::encoder_parameters p{};
+  p.counts_per_turn = 4000;
+  p.pole_pairs = 4;
+  p.base_speed = base_speed;
+  p.sample_time = est_ts;
+  p.tick_frequency = tick_frequency;
+  return p;
+}
+
+dqfx::hall_parameters hall_design(double base_speed, double tick_frequency = 10e6) {
+  return {dqfx::hall_table::evenly({1, 3, 2, 6, 4, 5}, dqfx::angle::from_degrees(-30)), base_speed, est_ts,
+          tick_frequency, 0.005};
+}
+
+dqfx::flux_observer_parameters observer_design(double base_speed, double flux = 0.25) {
+  dqfx::flux_observer_parameters p{};
+  p.resistance = 0.03;
+  p.ld = 0.1;
+  p.lq = 0.13;
+  p.flux = flux;
+  p.convergence_rate = 300;
+  p.base_speed = base_speed;
+  p.sample_time = est_ts;
+  p.pll_frequency = two_pi * 80;
+  p.minimum_speed = 0.05;
+  return p;
+}
+
+template <class T> bool not_nan(T v) {
+  if constexpr (dqfx::is_fixed_v<T>) {
+    return true;
+  } else {
+    return v == v;
+  }
+}
+
+}  // namespace
+
+TEST_CASE_TEMPLATE("Policy 12: an estimator whose base speed moves less than 2^-32 turn or at least half a turn "
+                   "per sample raises parameter_fault and gives speed 0",
+                   T, q15, q31, float, double) {
+  // 1e-300 makes the float speed scale 1/(base_speed * Ts) overflow (0 * infinity was NaN).
+  for (double base : {0.99 * one_unit_base, 1e-300, 1.01 * 0.5 * 4294967296.0 * one_unit_base}) {
+    CAPTURE(base);
+    dqfx::tracking_pll<T> pll{pll_design(base)};
+    CHECK(pll.parameter_fault());
+    pll.update(dqfx::angle::from_degrees(90));
+    pll.reset(dqfx::angle{}, dqfx::from_double<T>(0.5));
+    CHECK(pll.speed() == T{});
+    dqfx::encoder<T> encoder{encoder_design(base)};
+    CHECK(encoder.parameter_fault());
+    encoder.update(100);
+    encoder.update(200);
+    CHECK((encoder.speed() == T{} && encoder.raw_speed() == T{}));
+    dqfx::hall_sensor<T> hall{hall_design(base)};
+    CHECK(hall.parameter_fault());
+    hall.update(1);
+    hall.update(3);
+    CHECK(hall.speed() == T{});
+    dqfx::flux_observer<T> observer{observer_design(base)};
+    CHECK(observer.parameter_fault());
+    observer.update({dqfx::from_double<T>(0.5), T{}}, {T{}, dqfx::from_double<T>(0.5)});
+    CHECK(observer.speed() == T{});
+    CHECK((not_nan(observer.flux().alpha) && not_nan(observer.flux().beta)));
+  }
+  // Just inside the rule (a little over one unit per sample, a little under half a turn)
+  // the designs are accepted.
+  for (double base : {1.01 * one_unit_base, 0.99 * 0.5 * 4294967296.0 * one_unit_base}) {
+    CAPTURE(base);
+    CHECK_FALSE(dqfx::tracking_pll<T>{pll_design(base)}.parameter_fault());
+    CHECK_FALSE(dqfx::hall_sensor<T>{hall_design(base)}.parameter_fault());
+  }
+  for (double base : {1.01 * one_unit_base, 0.99 * 0.5 * 4294967296.0 * one_unit_base}) {
+    CHECK_FALSE(dqfx::encoder<T>{encoder_design(base)}.parameter_fault());
+  }
+  CHECK_FALSE(dqfx::flux_observer<T>{observer_design(1.01 * one_unit_base)}.parameter_fault());
+  CHECK_FALSE(dqfx::flux_observer<T>{observer_design(est_base)}.parameter_fault());
+}
+
+TEST_CASE_TEMPLATE("Policy 12: an encoder or Hall capture timer that is negative, NaN or wraps within a sample "
+                   "raises parameter_fault",
+                   T, q15, q31, float, double) {
+  for (double ticks : {-1.0, nan_double, inf_double, 2 * 4294967296.0 / est_ts, 1e300}) {
+    CAPTURE(ticks);
+    CHECK(dqfx::encoder<T>{encoder_design(est_base, ticks)}.parameter_fault());
+    CHECK(dqfx::hall_sensor<T>{hall_design(est_base, ticks)}.parameter_fault());
+  }
+  for (double ticks : {0.0, 100e6, 4294967295.0 / est_ts}) {
+    CAPTURE(ticks);
+    CHECK_FALSE(dqfx::encoder<T>{encoder_design(est_base, ticks)}.parameter_fault());
+    CHECK_FALSE(dqfx::hall_sensor<T>{hall_design(est_base, ticks)}.parameter_fault());
+  }
+}
+
+TEST_CASE_TEMPLATE("Policy 12: a tracking PLL or flux observer reset with a NaN or infinite speed raises "
+                   "input_fault and restarts at speed 0",
+                   T, float, double) {
+  for (T bad : non_finite<T>) {
+    dqfx::tracking_pll<T> pll{pll_design(est_base)};
+    pll.reset(dqfx::angle::from_degrees(10), T(0.3f));
+    CHECK_FALSE(pll.input_fault());
+    pll.reset(dqfx::angle::from_degrees(20), bad);
+    CHECK(pll.input_fault());
+    CHECK(pll.speed() == T{});
+    CHECK(pll.position() == dqfx::angle::from_degrees(20));
+    CHECK(pll.next() == pll.position());  // speed 0: it does not move
+    dqfx::flux_observer<T> observer{observer_design(est_base)};
+    observer.reset(dqfx::angle::from_degrees(20), bad);
+    CHECK(observer.input_fault());
+    CHECK(observer.speed() == T{});
+  }
+}
+
+TEST_CASE_TEMPLATE("Policy 12: the float flux observer saturates where the q31 state does: any finite input gives "
+                   "a finite flux and speed",
+                   T, float, double) {
+  constexpr T big = std::numeric_limits<T>::max();
+  for (T x : {T(1e3f), T(1e30f), big, -big}) {
+    CAPTURE(x);
+    dqfx::flux_observer<T> observer{observer_design(est_base)};
+    for (int k = 0; k < 200; ++k) {
+      observer.update({x, -x}, {(k % 2 == 0) ? x : -x, x});
+      const dqfx::stationary<T> f = observer.flux();
+      REQUIRE((std::isfinite(static_cast<double>(f.alpha)) && std::isfinite(static_cast<double>(f.beta))));
+      // The state is limited to +/-1 at its power-of-two scale (here 1: 2 (psi + Lq) < 1).
+      CHECK((std::fabs(static_cast<double>(f.alpha)) <= 1.0 && std::fabs(static_cast<double>(f.beta)) <= 1.0));
+      REQUIRE(std::isfinite(static_cast<double>(observer.speed())));
+    }
+    CHECK_FALSE(observer.input_fault());  // finite values are not a fault, only saturated
+  }
+  // A magnet flux so small that the radial correction gain exceeds 2^30 is refused (for
+  // q15/q31 it would saturate; float would overflow).
+  for (double flux : {1e-30, 1e-8}) {
+    CAPTURE(flux);
+    CHECK(dqfx::flux_observer<T>{observer_design(est_base, flux)}.parameter_fault());
+    CHECK(dqfx::flux_observer<q31>{observer_design(est_base, flux)}.parameter_fault());
+  }
+  CHECK_FALSE(dqfx::flux_observer<T>{observer_design(est_base, 1e-3)}.parameter_fault());
 }

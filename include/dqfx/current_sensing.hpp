@@ -12,6 +12,12 @@
 /// up to 15 bits; a 16-bit code is rounded to 15). Error against the exact
 /// (x - o) * gain (tests/test_current_sensing.cpp): q15 0.5 + 2^-16 LSB, q31 1 LSB, float
 /// and double one rounding of the product (the gain's own rounding included).
+///
+/// Bad input: a missing sample, a code at a rail or beyond the largest code is flagged and
+/// never used. An `adc_format` outside 8..16 bits is a parameter fault: `valid()` is false,
+/// a channel or calibration built from it is a compile-time error where constexpr, else
+/// raises `parameter_fault()`, reads every code as zero current and finds no sample usable
+/// (a reconstruction reports them railed; a calibration is never accepted).
 
 #include <cstdint>
 
@@ -23,13 +29,16 @@ namespace dqfx {
 
 /// ADC resolution and where its rails begin.
 struct adc_format {
-  /// Resolution in bits, 8 to 16.
+  /// Resolution in bits, 8 to 16 (others: see `valid()`).
   unsigned bits = 12;
   /// Codes within this distance of 0 or of the largest code count as railed: the
   /// amplifier or converter is saturated there and the reading is not the current.
   std::uint16_t rail_margin = 0;
 
-  constexpr std::uint32_t largest_code() const noexcept { return (std::uint32_t{1} << bits) - 1u; }
+  /// 8 to 16 bits: what the conversions are defined and tested for.
+  constexpr bool valid() const noexcept { return bits >= 8 && bits <= 16; }
+  /// 2^bits - 1; 0 for an invalid format, so that every code counts as railed.
+  constexpr std::uint32_t largest_code() const noexcept { return valid() ? (std::uint32_t{1} << bits) - 1u : 0u; }
   constexpr bool railed(std::uint16_t code) const noexcept {
     return code <= rail_margin || std::uint32_t{code} + rail_margin >= largest_code();
   }
@@ -43,10 +52,14 @@ struct adc_sample {
 
 namespace detail {
 
+// Deliberately not constexpr: reaching it for a constexpr channel stops compilation.
+inline void adc_bits_outside_8_to_16() noexcept {}
+
 /// (code - mid-scale) / 2^bits in T. q15 keeps 15 fraction bits (a 16-bit code is
-/// rounded); q31, float and double are exact.
+/// rounded); q31, float and double are exact. Zero for bits outside 8..16.
 template <class T>
 constexpr T centred_code(std::uint16_t code, unsigned bits) noexcept {
+  if (!adc_format{bits, 0}.valid()) return T{};
   const std::int32_t centred = static_cast<std::int32_t>(code) - (std::int32_t{1} << (bits - 1));
   if constexpr (is_fixed_v<T>) {
     const int up = T::fraction_bits - static_cast<int>(bits);
@@ -67,9 +80,14 @@ class current_channel {
  public:
   constexpr current_channel() noexcept = default;
   /// From the amplifier: `amps_per_code` (negative for an inverting amplifier) and the
-  /// base current of the per-unit system. The offset starts at mid-scale.
+  /// base current of the per-unit system. The offset starts at mid-scale. An invalid
+  /// format gives a channel with `parameter_fault()` and gain 0.
   static constexpr current_channel from_amplifier(adc_format format, double amps_per_code,
                                                   double base_amps) noexcept {
+    if (!format.valid()) {
+      detail::adc_bits_outside_8_to_16();
+      return current_channel{format, gain<T>{}, T{}};
+    }
     double full_range = amps_per_code / base_amps;
     for (unsigned i = 0; i < format.bits; ++i) full_range *= 2.0;
     return current_channel{format, gain<T>::from_double(full_range), T{}};
@@ -85,7 +103,9 @@ class current_channel {
   constexpr T reading(std::uint16_t code) const noexcept { return detail::centred_code<T>(code, format_.bits); }
   /// Per-unit current of a code (railed or not: check `usable` first).
   constexpr T current(std::uint16_t code) const noexcept { return (reading(code) - offset_) * gain_; }
-  /// The sample exists and is not at a rail.
+  /// The ADC format is outside 8..16 bits: no code is usable, every current is zero.
+  constexpr bool parameter_fault() const noexcept { return !format_.valid(); }
+  /// The sample exists and is not at a rail (never for an invalid format).
   constexpr bool usable(adc_sample s) const noexcept {
     return s.present && std::uint32_t{s.code} <= format_.largest_code() && !format_.railed(s.code);
   }
@@ -107,7 +127,9 @@ class offset_calibration {
   constexpr offset_calibration(adc_format format, std::uint32_t samples, std::uint16_t max_spread) noexcept
       : format_{format},
         samples_{samples == 0 ? 1u : (samples > 65536u ? 65536u : samples)},
-        max_spread_{max_spread} {}
+        max_spread_{max_spread} {
+    if (!format.valid()) detail::adc_bits_outside_8_to_16();
+  }
 
   /// Adds one sample; ignored once the run is complete.
   constexpr void add(adc_sample s) noexcept {
@@ -123,6 +145,8 @@ class offset_calibration {
     ++count_;
   }
   constexpr bool complete() const noexcept { return count_ >= samples_; }
+  /// The ADC format is outside 8..16 bits: every sample is bad, no run is accepted.
+  constexpr bool parameter_fault() const noexcept { return !format_.valid(); }
   /// Complete, no missing or railed sample, and a spread within the limit.
   constexpr bool accepted() const noexcept { return complete() && !bad_ && spread() <= max_spread_; }
   /// max - min of the codes so far (0 before the first good sample).

@@ -27,7 +27,11 @@
 /// reading beyond the counter's period, raises `jump()` for that sample and the sticky
 /// `fault()`; angle and speed hold their last good values and the reading is ignored (the
 /// next reading is compared with the last good one, so a one-sample glitch costs one
-/// sample). A counter that really jumped keeps faulting until `restart()`.
+/// sample). A counter that really jumped keeps faulting until `restart()`. A design outside
+/// the rules of `parameter_fault()` (among them the estimators' shared speed-scale rule:
+/// the base speed moves 2^-32 turn to half a turn per sample) raises it, is a compile-time
+/// error for a constexpr encoder, and gives an encoder that ignores every reading
+/// (angle 0, speed 0).
 
 #include <array>
 #include <cstddef>
@@ -94,8 +98,9 @@ class encoder {
     const double half_turn = 0.5 * static_cast<double>(p.counts_per_turn);
     const bool valid = p.counts_per_turn >= 4 && p.counts_per_turn <= (1u << 30) && p.pole_pairs >= 1 &&
                        p.counter_period != 1 && p.sample_time > 0.0 && p.base_speed > 0.0 &&
-                       p.max_speed > 0.0 && steps < half_period && steps < half_turn &&
-                       !(p.tick_frequency < 0.0) && !(p.filter_bandwidth < 0.0);
+                       detail::speed_scale_valid(p.base_speed, p.sample_time) &&
+                       detail::tick_frequency_valid(p.tick_frequency, p.sample_time) && p.max_speed > 0.0 &&
+                       steps < half_period && steps < half_turn && !(p.filter_bandwidth < 0.0);
     if (!valid) {
       detail::encoder_parameters_out_of_range();
       parameter_fault_ = true;
@@ -153,7 +158,9 @@ class encoder {
   /// Sticky: a reading was rejected since the last `clear_faults()`.
   constexpr bool fault() const noexcept { return fault_; }
   constexpr void clear_faults() noexcept { fault_ = false; }
-  /// Counts per turn outside 4..2^30, zero pole pairs, non-positive times or speeds, or a
+  /// Counts per turn outside 4..2^30, zero pole pairs, non-positive times or speeds, a base
+  /// speed that moves less than 2^-32 turn or at least half a turn per sample, a tick
+  /// frequency that is negative, not a number or 2^32 ticks per sample or more, or a
   /// max_speed step of half a turn or half the counter period or more.
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
   /// The largest step per sample accepted, in counts.

@@ -37,6 +37,14 @@
 ///
 /// Bad input: a NaN or infinite current or voltage (float/double) raises `input_fault()`;
 /// the flux state holds, the speed holds its last good value and the angle advances at it.
+/// Finite values saturate in every type: q15/q31 by their arithmetic, float/double where
+/// the q31 state would (inputs clamped to +/-1024 per unit, far beyond any real reading;
+/// the flux state, its active-flux part and the radial correction to +/-1 at the state's
+/// scale), so any finite input gives a finite flux and speed, and normal inputs, which
+/// stay well inside, give the same results as without the limits. `reset` with a NaN or
+/// infinite speed raises `input_fault()` and restarts the PLL at speed 0.
+/// Designs outside the rules of `parameter_fault()` raise it (a compile-time error for a
+/// constexpr observer) and give an observer that ignores its inputs.
 
 #include <cstdint>
 #include <limits>
@@ -89,6 +97,22 @@ constexpr S widen(T v) noexcept {
 template <class T, class S>
 constexpr T narrow(S v) noexcept;
 
+/// Float/double: v limited to +/-limit, where the fixed-point arithmetic saturates by
+/// itself (q15/q31: v unchanged).
+template <class S>
+constexpr S limited(S v, double limit) noexcept {
+  if constexpr (is_fixed_v<S>) {
+    static_cast<void>(limit);
+    return v;
+  } else {
+    const S most = static_cast<S>(limit);
+    return v > most ? most : (v < -most ? -most : v);
+  }
+}
+/// The observer's inputs, per unit, and its state at its power-of-two scale.
+constexpr double observer_input_limit = 1024.0;
+constexpr double observer_state_limit = 1.0;
+
 /// The angle of the flux estimate read at T's precision: for q15 a 32-bit division instead
 /// of q31's 64-bit one, 2^-18 turn (0.0014 degree) against errors of degrees.
 template <class T>
@@ -131,9 +155,15 @@ class flux_observer {
         trust_{detail::bounded<T>(1.2 * p.minimum_speed)},
         pll_{tracking_pll_parameters{p.pll_frequency, p.pll_damping, p.base_speed, p.sample_time}} {
     const double step = step_of(p);
+    // The largest gains (resistance drop and radial correction per sample) must fit the
+    // +/-2^30 of a fixed-point `gain`; the rule holds for every type alike.
+    constexpr double largest_gain = 1073741824.0;
+    const bool gains_fit = step * p.resistance / (2.0 * scale_) <= largest_gain && p.flux * p.flux > 0.0 &&
+                           correction_of(p, scale_) <= largest_gain;
     const bool valid = p.resistance >= 0.0 && p.ld > 0.0 && p.lq > 0.0 && p.flux > 0.0 && p.flux < 1.0 &&
                        p.convergence_rate > 0.0 && p.convergence_rate * p.sample_time <= 0.5 && step > 0.0 &&
-                       step < 1.0 && p.minimum_speed >= 0.0 && !pll_.parameter_fault() && scale_ <= 64.0;
+                       step < 1.0 && p.minimum_speed >= 0.0 && !pll_.parameter_fault() && scale_ <= 64.0 &&
+                       gains_fit;
     if (!valid) {
       detail::flux_observer_parameters_out_of_range();
       parameter_fault_ = true;
@@ -151,36 +181,38 @@ class flux_observer {
       pll_.coast();
       return;
     }
-    const stationary<S> i{detail::widen<S>(current.alpha), detail::widen<S>(current.beta)};
-    const stationary<S> v{detail::widen<S>(voltage.alpha), detail::widen<S>(voltage.beta)};
+    const stationary<S> i{input(current.alpha), input(current.beta)};
+    const stationary<S> v{input(voltage.alpha), input(voltage.beta)};
     // Radial correction from the flux estimate at the start of the period.
-    const stationary<S> eta{x_.alpha - i_.alpha * inductance_, x_.beta - i_.beta * inductance_};
-    const S radial = accumulator<S>{active_flux_ * active_flux_}
-                         .subtract_product(eta.alpha, eta.alpha)
-                         .subtract_product(eta.beta, eta.beta)
-                         .result() *
-                     correction_gain_;
-    x_.alpha = x_.alpha + v.alpha * voltage_gain_ - i.alpha * resistance_gain_ - i_.alpha * resistance_gain_ +
-               radial * eta.alpha;
-    x_.beta = x_.beta + v.beta * voltage_gain_ - i.beta * resistance_gain_ - i_.beta * resistance_gain_ +
-              radial * eta.beta;
+    const stationary<S> eta{state(x_.alpha - i_.alpha * inductance_), state(x_.beta - i_.beta * inductance_)};
+    const S radial = state(accumulator<S>{active_flux_ * active_flux_}
+                               .subtract_product(eta.alpha, eta.alpha)
+                               .subtract_product(eta.beta, eta.beta)
+                               .result() *
+                           correction_gain_);
+    x_.alpha = state(x_.alpha + v.alpha * voltage_gain_ - i.alpha * resistance_gain_ - i_.alpha * resistance_gain_ +
+                     radial * eta.alpha);
+    x_.beta = state(x_.beta + v.beta * voltage_gain_ - i.beta * resistance_gain_ - i_.beta * resistance_gain_ +
+                    radial * eta.beta);
     i_ = i;
-    eta_ = {x_.alpha - i.alpha * inductance_, x_.beta - i.beta * inductance_};
+    eta_ = {state(x_.alpha - i.alpha * inductance_), state(x_.beta - i.beta * inductance_)};
     observed_ = detail::angle_of<T>(detail::narrow<T>(eta_.alpha), detail::narrow<T>(eta_.beta));
     pll_.update(observed_);
     if (salient_) {
       // psi_a = psi + (Ld - Lq) id, with id along the angle just found.
       const sincos<S> sc = sincos_of<S>(observed_);
-      active_flux_ = flux_ + sum_of_products(i.alpha, sc.cos, i.beta, sc.sin) * saliency_;
+      active_flux_ = state(flux_ + sum_of_products(i.alpha, sc.cos, i.beta, sc.sin) * saliency_);
     }
     const T w = abs(pll_.speed());
     trusted_ = trusted_ ? !(w < minimum_) : w > trust_;
   }
 
-  /// Restarts with the flux estimate at `rotor` (e.g. a start-up angle) and the PLL there.
+  /// Restarts with the flux estimate at `rotor` (e.g. a start-up angle) and the PLL there;
+  /// a non-finite speed raises `input_fault()` and restarts the PLL at speed 0.
   constexpr void reset(angle rotor, T speed = T{}) noexcept {
+    input_fault_ = input_fault_ || detail::non_finite(speed);
     const sincos<S> sc = sincos_of<S>(rotor);
-    x_ = {i_.alpha * inductance_ + sc.cos * flux_, i_.beta * inductance_ + sc.sin * flux_};
+    x_ = {state(i_.alpha * inductance_ + sc.cos * flux_), state(i_.beta * inductance_ + sc.sin * flux_)};
     eta_ = {sc.cos * flux_, sc.sin * flux_};
     active_flux_ = flux_;
     observed_ = rotor;
@@ -202,15 +234,23 @@ class flux_observer {
   }
   /// Above the minimum speed (with 20 % hysteresis): the estimate can be used to control.
   constexpr bool trusted() const noexcept { return trusted_; }
-  /// Sticky: a non-finite current or voltage was refused.
+  /// Sticky: a non-finite current, voltage or reset speed was refused.
   constexpr bool input_fault() const noexcept { return input_fault_; }
   constexpr void clear_faults() noexcept { input_fault_ = false; }
   /// Non-positive inductance or flux, flux >= 1, negative resistance, convergence_rate * Ts
-  /// outside (0, 0.5], base_speed * Ts >= 1, or a PLL design out of range.
+  /// outside (0, 0.5], base_speed * Ts >= 1, a PLL design out of range (the PLL's
+  /// speed-scale rule included), or a gain beyond +/-2^30: the resistance drop per sample
+  /// h R / (2 scale), or the radial correction Ts * convergence_rate * scale^2 / (2 psi^2)
+  /// (at convergence_rate * Ts = 0.5: a magnet flux below 2^-16 of the state scale).
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
   constexpr const tracking_pll<T>& pll() const noexcept { return pll_; }
 
  private:
+  /// A finite input, clamped (float/double) to the observer's input range.
+  static constexpr S input(T v) noexcept { return detail::widen<S>(detail::limited(v, detail::observer_input_limit)); }
+  /// A state value, clamped (float/double) to the range of the q31 state.
+  static constexpr S state(S v) noexcept { return detail::limited(v, detail::observer_state_limit); }
+
   static constexpr double step_of(const flux_observer_parameters& p) noexcept {
     return p.sample_time * p.base_speed;  // per-unit time per sample
   }

@@ -25,7 +25,10 @@
 /// Bad input: an invalid state (000 or 111) or a jump to a non-adjacent state raises
 /// `bad_state()` for that sample and the sticky `fault()`; angle and speed hold their last
 /// good values. A non-adjacent state seen twice in a row is taken as real: the estimate
-/// restarts in it as from standstill.
+/// restarts in it as from standstill. A design outside the rules of `parameter_fault()`
+/// (among them the estimators' shared speed-scale rule: the base speed moves 2^-32 turn to
+/// half a turn per sample) raises it, is a compile-time error for a constexpr sensor, and
+/// gives a sensor that ignores every reading (angle 0, speed 0).
 
 #include <array>
 #include <cstdint>
@@ -57,7 +60,7 @@ struct hall_table {
 namespace detail {
 
 // Deliberately not constexpr: reaching it for a constexpr sensor stops compilation.
-inline void hall_table_not_six_sectors_of_20_to_100_degrees() noexcept {}
+inline void hall_parameters_out_of_range() noexcept {}
 
 /// The forward order of a table and each sector's width; `valid` when the six starts are
 /// distinct and every sector is 20..100 degrees wide.
@@ -117,8 +120,10 @@ class hall_sensor {
         ticks_per_sample_{ticks_per_sample(p)},
         speed_of_{speed_per_unit_angle(p)},
         standstill_ticks_{standstill_ticks(p)} {
-    if (!order_.valid || !(p.sample_time > 0.0) || !(p.base_speed > 0.0)) {
-      detail::hall_table_not_six_sectors_of_20_to_100_degrees();
+    if (!order_.valid || !(p.sample_time > 0.0) || !(p.base_speed > 0.0) ||
+        !detail::speed_scale_valid(p.base_speed, p.sample_time) ||
+        !detail::tick_frequency_valid(p.tick_frequency, p.sample_time)) {
+      detail::hall_parameters_out_of_range();
       parameter_fault_ = true;
     }
   }
@@ -164,7 +169,9 @@ class hall_sensor {
   /// Sticky: a bad state was seen since the last `clear_faults()`.
   constexpr bool fault() const noexcept { return fault_; }
   constexpr void clear_faults() noexcept { fault_ = false; }
-  /// The table is not six sectors of 20..100 degrees, or the times are not positive.
+  /// The table is not six sectors of 20..100 degrees, the times are not positive, the base
+  /// speed moves less than 2^-32 turn or at least half a turn per sample, or the tick
+  /// frequency is negative, not a number or 2^32 ticks per sample or more.
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
   constexpr const hall_table& table() const noexcept { return table_; }
 

@@ -26,12 +26,16 @@
 /// The angle is a `dqfx::angle` for every T (exact wrap); the type sets the speed output,
 /// the sine/cosine input and the loop arithmetic: q15 and q31 integrate in 64-bit
 /// integers (rate at 2^-64 turn per sample), float and double in T.
-/// Valid designs: 0 < wn*Ts <= 0.5 and 0.2 <= zeta <= 5; others raise `parameter_fault()`
-/// (a compile-time error for a constexpr loop) and give a loop that does not move.
+/// Valid designs: 0 < wn*Ts <= 0.5, 0.2 <= zeta <= 5, and a base speed that moves at least
+/// one binary-angle unit (2^-32 turn) and less than half a turn per sample (the rule all
+/// estimators share, detail::speed_scale_valid); others raise `parameter_fault()` (a
+/// compile-time error for a constexpr loop) and give a loop that does not move.
 ///
 /// Bad input: a NaN or infinite sine/cosine (float/double) raises `input_fault()`; the
 /// speed holds its last good value and the angle advances at that speed (a frozen angle
-/// would be wrong by a whole turn within a few milliseconds of running).
+/// would be wrong by a whole turn within a few milliseconds of running). `reset` with a
+/// NaN or infinite speed raises `input_fault()` and restarts at speed 0; a finite speed
+/// beyond half a turn per sample saturates there.
 
 #include <cstdint>
 #include <type_traits>
@@ -193,14 +197,14 @@ class tracking_pll {
 
   constexpr tracking_pll() noexcept = default;
   constexpr explicit tracking_pll(const tracking_pll_parameters& p) noexcept
-      : gains_{design_tracking_pll(p.natural_frequency, p.damping, p.sample_time)},
-        k_{recipe::make(gains_, units_per_speed(p))} {
-    const double u = units_per_speed(p);
-    if (!gains_.valid || !(u > 0.0 && u < 2147483648.0)) {
+      : gains_{design_tracking_pll(p.natural_frequency, p.damping, p.sample_time)} {
+    if (!gains_.valid || !detail::speed_scale_valid(p.base_speed, p.sample_time)) {
       detail::tracking_pll_design_out_of_range();
       parameter_fault_ = true;
       k_ = recipe::make(tracking_pll_gains{}, 0.0);
+      return;
     }
+    k_ = recipe::make(gains_, units_per_speed(p));
   }
 
   /// One sample with a measured angle.
@@ -234,18 +238,21 @@ class tracking_pll {
   /// The latest error measured - predicted, in binary-angle units (2^-32 turn).
   constexpr std::int32_t error() const noexcept { return error_; }
 
-  /// Restarts the loop at an angle and speed (per unit).
+  /// Restarts the loop at an angle and speed (per unit); a non-finite speed raises
+  /// `input_fault()` and restarts at speed 0.
   constexpr void reset(angle a, T speed = T{}) noexcept {
+    const bool refused = detail::non_finite(speed);
+    input_fault_ = input_fault_ || refused;
     angle_ = a;
-    rate_ = parameter_fault_ ? rate_type{} : recipe::rate_of(k_, speed);
+    rate_ = parameter_fault_ || refused ? rate_type{} : recipe::rate_of(k_, speed);
     error_ = 0;
   }
 
   constexpr const tracking_pll_gains& gains() const noexcept { return gains_; }
   /// The design was outside 0 < wn*Ts <= 0.5, 0.2 <= zeta <= 5, or the base speed moves
-  /// more than half a turn per sample.
+  /// less than 2^-32 turn or at least half a turn per sample.
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
-  /// Sticky: a non-finite sine or cosine was refused.
+  /// Sticky: a non-finite sine, cosine or reset speed was refused.
   constexpr bool input_fault() const noexcept { return input_fault_; }
   constexpr void clear_faults() noexcept { input_fault_ = false; }
 

@@ -1,14 +1,14 @@
 // SPDX-License-Identifier: MIT
 // Fuzz harness: the angle and speed estimators (tracking PLL, incremental encoder, Hall
 // sensors, flux observer) under any design parameters and any sequence of readings.
-// Invariants: no undefined behaviour; speeds never NaN; a non-finite float input raises
-// the input fault and never reaches the estimate; the PLL's error is the wrapped
+// Invariants: no undefined behaviour; speeds (and the observer's flux) never NaN, for any
+// design and any input; a design outside the documented rules raises `parameter_fault()`;
+// a non-finite float input raises the input fault and never reaches the estimate; the PLL's error is the wrapped
 // difference between the reading and its prediction, exactly; an encoder jump or an
 // invalid Hall state raises the sample flag and the sticky fault and holds angle and
 // speed; an encoder's position stays inside the turn.
 #include <array>
 #include <cmath>
-#include <initializer_list>
 
 #include "dqfx/encoder.hpp"
 #include "dqfx/flux_observer.hpp"
@@ -35,28 +35,18 @@ bool not_nan(T v) {
   }
 }
 
-/// Known (reported, not fixed here): a float/double estimator (PLL, encoder, observer)
-/// whose speed scale base_speed * sample_time is so small that its reciprocal overflows T
-/// gives a NaN speed (0 * infinity); such designs should raise `parameter_fault()`. The
-/// harness checks the speed only where the scale fits.
-template <class T>
-bool speed_scale_fits(double base_speed, double sample_time) {
-  if constexpr (dqfx::is_fixed_v<T>) {
-    return true;
-  } else {
-    const long double units = static_cast<long double>(base_speed) * sample_time * 683565275.57643158978L;
-    return std::fabs(1.0L / units) <= static_cast<long double>(std::numeric_limits<T>::max());
-  }
+/// The estimators' shared design rule, computed here in long double: the base speed moves
+/// at least one binary-angle unit (2^-32 turn) and less than half a turn per sample. True
+/// when the design clearly breaks it (a margin of 0.1 % keeps rounding at the edges out).
+bool breaks_speed_scale(double base_speed, double sample_time) {
+  const long double units = static_cast<long double>(base_speed) * sample_time * 683565275.57643158978L;
+  return !(units >= 0.999L && units < 2147483648.0L * 1.001L);
 }
 
-/// Design values of sensible size (zero, or 1e-30 to 1e30 in magnitude) and a speed scale
-/// that fits T: the estimators' NaN checks apply to such designs (see above; absurd ones
-/// are still run for undefined behaviour and crashes).
-template <class T>
-bool sensible(double base_speed, double sample_time, std::initializer_list<double> others) {
-  bool ok = speed_scale_fits<T>(base_speed, sample_time);
-  for (double v : others) ok = ok && (v == 0.0 || (std::fabs(v) >= 1e-30 && std::fabs(v) <= 1e30));
-  return ok;
+/// A capture timer that is negative, not a number, or wraps within a sample.
+bool breaks_tick_frequency(double tick_frequency, double sample_time) {
+  return !(tick_frequency >= 0.0) ||
+         static_cast<long double>(tick_frequency) * sample_time >= 4294967296.0L * 1.001L;
 }
 
 template <class T>
@@ -67,9 +57,7 @@ void pll(byte_reader& in) {
   p.base_speed = parameter(in, 3000.0);
   p.sample_time = parameter(in, 1e-4);
   dqfx::tracking_pll<T> loop{p};
-  // Known (reported): with a speed scale beyond T the float rate becomes NaN and its
-  // rounding to an integer is undefined; such designs are not run until the PLL refuses them.
-  if (!speed_scale_fits<T>(p.base_speed, p.sample_time)) return;
+  if (breaks_speed_scale(p.base_speed, p.sample_time)) DQFX_FUZZ_CHECK(loop.parameter_fault());
   const unsigned steps = in.choice(32);
   for (unsigned k = 0; k < steps; ++k) {
     const dqfx::angle before = loop.position();
@@ -93,15 +81,15 @@ void pll(byte_reader& in) {
       }
       case 2: loop.coast(); break;
       default: {
-        // Known (reported, not yet fixed in tracking_pll.hpp): reset with a NaN speed
-        // makes the rate NaN. Until then the harness restarts at finite speeds only.
         const dqfx::angle at = in.angle();
         const T speed = in.mostly_unit<T>();
-        if (is_finite(speed)) loop.reset(at, speed);
+        loop.reset(at, speed);
+        DQFX_FUZZ_CHECK(loop.position() == at);
+        if (!is_finite(speed)) DQFX_FUZZ_CHECK(loop.input_fault() && loop.speed() == T{});
         break;
       }
     }
-    if (speed_scale_fits<T>(p.base_speed, p.sample_time)) DQFX_FUZZ_CHECK(not_nan(loop.speed()));
+    DQFX_FUZZ_CHECK(not_nan(loop.speed()));
     if (loop.parameter_fault() && loop.speed() == T{}) DQFX_FUZZ_CHECK(loop.next() == loop.position());
     static_cast<void>(before);
   }
@@ -121,7 +109,9 @@ void encoder(byte_reader& in) {
   p.filter_bandwidth = in.flag() ? 0.0 : parameter(in, 500.0);
   p.max_speed = parameter(in, 1.0);
   dqfx::encoder<T> sensor{p};
-  const bool checked = sensible<T>(p.base_speed, p.sample_time, {p.tick_frequency, p.switch_speed, p.filter_bandwidth, p.max_speed});
+  if (breaks_speed_scale(p.base_speed, p.sample_time) || breaks_tick_frequency(p.tick_frequency, p.sample_time)) {
+    DQFX_FUZZ_CHECK(sensor.parameter_fault());
+  }
   std::uint32_t count = in.bits<std::uint32_t>(), ticks = 0;
   const unsigned steps = in.choice(48);
   for (unsigned k = 0; k < steps; ++k) {
@@ -136,11 +126,11 @@ void encoder(byte_reader& in) {
     } else {
       sensor.update(count);
     }
-    if (checked) DQFX_FUZZ_CHECK(not_nan(sensor.speed()) && not_nan(sensor.raw_speed()));
+    DQFX_FUZZ_CHECK(not_nan(sensor.speed()) && not_nan(sensor.raw_speed()));
     if (sensor.jump()) {
       DQFX_FUZZ_CHECK(sensor.fault());
       DQFX_FUZZ_CHECK(sensor.electrical_angle() == angle_before);
-      if (checked) DQFX_FUZZ_CHECK(sensor.speed() == speed_before);
+      DQFX_FUZZ_CHECK(sensor.speed() == speed_before);
     }
     if (!sensor.parameter_fault()) DQFX_FUZZ_CHECK(sensor.position() < p.counts_per_turn);
   }
@@ -160,7 +150,9 @@ void hall(byte_reader& in) {
   p.tick_frequency = in.flag() ? 0.0 : parameter(in, 1e7);
   p.min_speed = parameter(in, 0.005);
   dqfx::hall_sensor<T> sensor{p};
-  const bool checked = sensible<T>(p.base_speed, p.sample_time, {p.tick_frequency, p.min_speed});
+  if (breaks_speed_scale(p.base_speed, p.sample_time) || breaks_tick_frequency(p.tick_frequency, p.sample_time)) {
+    DQFX_FUZZ_CHECK(sensor.parameter_fault());
+  }
   std::uint32_t ticks = 0;
   unsigned position = in.choice(6);
   const unsigned steps = in.choice(48);
@@ -177,13 +169,13 @@ void hall(byte_reader& in) {
     } else {
       sensor.update(state);
     }
-    if (checked) DQFX_FUZZ_CHECK(not_nan(sensor.speed()));
+    DQFX_FUZZ_CHECK(not_nan(sensor.speed()));
     DQFX_FUZZ_CHECK(sensor.direction() >= -1 && sensor.direction() <= 1);
     if ((state & 7u) == 0 || (state & 7u) == 7) DQFX_FUZZ_CHECK(sensor.bad_state() || sensor.parameter_fault());
     if (sensor.bad_state()) {
       DQFX_FUZZ_CHECK(sensor.fault());
       DQFX_FUZZ_CHECK(sensor.electrical_angle() == angle_before);
-      if (checked) DQFX_FUZZ_CHECK(sensor.speed() == speed_before);
+      DQFX_FUZZ_CHECK(sensor.speed() == speed_before);
     }
   }
 }
@@ -202,27 +194,27 @@ void observer(byte_reader& in) {
   p.pll_damping = parameter(in, 1.0);
   p.minimum_speed = parameter(in, 0.05);
   dqfx::flux_observer<T> estimate{p};
-  if (!speed_scale_fits<T>(p.base_speed, p.sample_time)) return;  // the PLL inside: see pll()
-  bool sensible = speed_scale_fits<T>(p.base_speed, p.sample_time);
-  for (double v : {p.resistance, p.ld, p.lq, p.flux}) sensible = sensible && (v == 0.0 || std::fabs(v) >= 1e-30);
+  // The radial correction gain is at least Ts * convergence_rate / (2 psi^2) (the state
+  // scale is at least 1); beyond the +/-2^30 of a gain the design must be refused.
+  const long double correction =
+      static_cast<long double>(p.sample_time) * p.convergence_rate / (2.0L * p.flux * p.flux);
+  if (breaks_speed_scale(p.base_speed, p.sample_time) || correction > 2147483648.0L) {
+    DQFX_FUZZ_CHECK(estimate.parameter_fault());
+  }
   const unsigned steps = in.choice(32);
   for (unsigned k = 0; k < steps; ++k) {
-    if (in.choice(16) == 0) estimate.reset(in.angle(), in.mostly_unit<T>());
+    if (in.choice(16) == 0) {
+      const dqfx::angle at = in.angle();  // read in order: argument order is unspecified
+      const T speed = in.mostly_unit<T>();
+      estimate.reset(at, speed);
+      if (!is_finite(speed)) DQFX_FUZZ_CHECK(estimate.input_fault() && estimate.speed() == T{});
+    }
+    // Any value, finite ones far beyond the per-unit range included.
     const dqfx::stationary<T> i{in.mostly_unit<T>(), in.mostly_unit<T>()};
     const dqfx::stationary<T> v{in.mostly_unit<T>(), in.mostly_unit<T>()};
-    // Known (reported): finite inputs far beyond the per-unit range (float, ~1e38) overflow
-    // inside the observer and reach the PLL's float-to-integer rounding as NaN (undefined).
-    // Until the observer refuses them, the harness feeds non-finite or moderate values only.
-    bool moderate = true;
-    for (T x : {i.alpha, i.beta, v.alpha, v.beta}) moderate = moderate && !(std::fabs(exact(x)) > 1e3L);
-    if (!moderate) continue;
     estimate.update(i, v);
     const bool finite = is_finite(i.alpha) && is_finite(i.beta) && is_finite(v.alpha) && is_finite(v.beta);
     if (!finite && !estimate.parameter_fault()) DQFX_FUZZ_CHECK(estimate.input_fault());  // a faulted design ignores input
-    // Known (reported): designs whose constants vanish in T (a motor parameter below
-    // 1e-30 per unit) and finite per-unit inputs beyond 1e3 can still overflow inside
-    // the float observer; the NaN checks cover sensible designs and inputs.
-    if (!sensible) continue;
     DQFX_FUZZ_CHECK(not_nan(estimate.speed()));
     const dqfx::stationary<T> f = estimate.flux();
     DQFX_FUZZ_CHECK(not_nan(f.alpha) && not_nan(f.beta));

@@ -24,6 +24,20 @@ constexpr T bounded(double v) noexcept {
   return from_double<T>(v > hi ? hi : (v < lo ? lo : v));
 }
 
+/// The design rule every estimator shares, one test for all four types (a design valid
+/// for one type is valid for all): the base speed moves at least one binary-angle unit
+/// (2^-32 turn) and less than half a turn per sample. Below it the float speed scale, the
+/// reciprocal of this angle, can overflow T (and 0 * infinity is NaN); above it speed 1.0
+/// aliases. With a capture timer, `tick_frequency` is 0 (none) or positive with fewer than
+/// 2^32 ticks per sample (the timer must not wrap within a sample).
+constexpr bool speed_scale_valid(double base_speed, double sample_time) noexcept {
+  const double units = base_speed * sample_time * (4294967296.0 / 6.283185307179586477);
+  return units >= 1.0 && units < 2147483648.0;
+}
+constexpr bool tick_frequency_valid(double tick_frequency, double sample_time) noexcept {
+  return tick_frequency == 0.0 || (tick_frequency > 0.0 && tick_frequency * sample_time < 4294967296.0);
+}
+
 /// Signed (to - from) of two readings of a wrapping 32-bit timer.
 constexpr std::int64_t ticks_between(std::uint32_t to, std::uint32_t from) noexcept {
   return static_cast<std::int64_t>(static_cast<std::uint32_t>(to - from));
