@@ -27,8 +27,8 @@ using ref::real;
 /// Documented duty error (absolute), without and with a bus voltage.
 template <class T>
 real duty_bound(bool with_bus, real bus = 1) {
-  // The bounds documented in svm.hpp; q15 with a bus b: 0.5 + 2^-10/b LSB.
-  if constexpr (std::is_same_v<T, q15>) return (with_bus ? 0.5L + 1.0L / 1024 / bus : 0.5L + 1.0L / (1 << 22)) * lsb<T>();
+  // The bounds documented in svm.hpp; q15: 0.5 + 2^-11 LSB, with a bus b 0.5 + 2^-10/b LSB.
+  if constexpr (std::is_same_v<T, q15>) return (with_bus ? 0.5L + 1.0L / 1024 / bus : 0.5L + 1.0L / 2048) * lsb<T>();
   if constexpr (std::is_same_v<T, q31>) return (with_bus ? 1.25L : 0.75L) * lsb<T>();
   if constexpr (std::is_same_v<T, float>) return with_bus ? 4.8e-7L : 2.4e-7L;
   return with_bus ? 1e-15L : 5e-16L;

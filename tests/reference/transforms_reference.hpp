@@ -112,17 +112,25 @@ struct hexagon {
     return apothem / std::cos(u - two_pi / 12.0L);
   }
   bool contains(real x, real y) const { return std::hypot(x, y) <= reach(angle_of(x, y)); }
-  /// Nearest point of the boundary (projection onto each edge segment, the closest wins).
+  /// Nearest boundary point to a point outside. The regions outside a convex polygon
+  /// that are nearest to each edge (the strips beyond it, between the normals at its
+  /// ends) do not overlap: the point projects onto the one edge whose strip holds it, or
+  /// else onto the nearest vertex. (Choosing the closest of all clamped edge projections
+  /// instead is ill-conditioned where a vertex is about as far as the true foot.)
   ab nearest(real x, real y) const {
     ab best{0, 0};
     real best_d = INFINITY;
     for (int i = 0; i < 6; ++i) {
       const real ax = vertex_x(i), ay = vertex_y(i), bx = vertex_x(i + 1), by = vertex_y(i + 1);
-      real t = ((x - ax) * (bx - ax) + (y - ay) * (by - ay)) / ((bx - ax) * (bx - ax) + (by - ay) * (by - ay));
-      t = t < 0 ? 0 : (t > 1 ? 1 : t);
-      const real px = ax + t * (bx - ax), py = ay + t * (by - ay);
-      const real d = std::hypot(x - px, y - py);
-      if (d < best_d) { best_d = d; best = {px, py}; }
+      const real ex = bx - ax, ey = by - ay;
+      const real t = ((x - ax) * ex + (y - ay) * ey) / (ex * ex + ey * ey);
+      const bool beyond = (x - ax) * ey - (y - ay) * ex > 0;  // right of a counter-clockwise edge
+      if (beyond && t > 0 && t < 1) return {ax + t * ex, ay + t * ey};
+      const real d = std::hypot(x - ax, y - ay);
+      if (d < best_d) {
+        best_d = d;
+        best = {ax, ay};
+      }
     }
     return best;
   }
