@@ -15,6 +15,7 @@
 #include <vector>
 
 #include "dqfx/transforms.hpp"
+#include "reference/transform_cases.hpp"
 #include "reference/transforms_reference.hpp"
 
 using dqfx::q15;
@@ -301,41 +302,17 @@ TEST_CASE_TEMPLATE("Transforms stay within the documented bound on random and co
   const int n = 400000;
   for (int i = 0; i < n; ++i) {
     const T a = in.next(), b = in.next(), c = in.next(), s = in.next(), k = in.next();
-    const real ra = value_of(a), rb = value_of(b), rc = value_of(c), rs = value_of(s), rk = value_of(k);
-    const auto v = dqfx::clarke(dqfx::phases<T>{a, b, c});
-    const auto ev = ref::clarke_amplitude(ra, rb, rc);
-    clarke3.add(error_of(v.alpha, ev.alpha));
-    clarke3.add(error_of(v.beta, ev.beta));
-    const auto v2 = dqfx::clarke(a, b);
-    const auto ev2 = ref::clarke_amplitude(ra, rb, -ra - rb);
-    clarke2.add(error_of(v2.alpha, ev2.alpha));
-    clarke2.add(error_of(v2.beta, ev2.beta));
-    const auto x = dqfx::inverse_clarke(dqfx::stationary<T>{a, b});
-    const auto ex = ref::inverse_clarke_amplitude(ra, rb);
-    inverse.add(error_of(x.a, ex.a));
-    inverse.add(error_of(x.b, ex.b));
-    inverse.add(error_of(x.c, ex.c));
-    const auto dq = dqfx::park(dqfx::stationary<T>{a, b}, dqfx::sincos<T>{s, k});
-    const auto edq = ref::park(ra, rb, rs, rk);
-    rotation.add(error_of(dq.d, edq.alpha));
-    rotation.add(error_of(dq.q, edq.beta));
-    const auto ab = dqfx::inverse_park(dqfx::rotating<T>{a, b}, dqfx::sincos<T>{s, k});
-    const auto eab = ref::inverse_park(ra, rb, rs, rk);
-    rotation.add(error_of(ab.alpha, eab.alpha));
-    rotation.add(error_of(ab.beta, eab.beta));
-    const auto p = dqfx::clarke<dqfx::power_invariant>(dqfx::phases<T>{a, b, c});
-    const auto ep = ref::clarke_power(ra, rb, rc);
-    power.add(power_error_of(p.alpha, ep.alpha));
-    power.add(power_error_of(p.beta, ep.beta));
-    const auto p2 = dqfx::clarke<dqfx::power_invariant>(a, b);
-    const auto ep2 = ref::clarke_power(ra, rb, -ra - rb);
-    power2.add(power_error_of(p2.alpha, ep2.alpha));
-    power2.add(power_error_of(p2.beta, ep2.beta));
-    const auto px = dqfx::inverse_clarke<dqfx::power_invariant>(dqfx::stationary<T>{a, b});
-    const auto epx = ref::inverse_clarke_power(ra, rb);
-    power_inverse.add(power_error_of(px.a, epx.a));
-    power_inverse.add(power_error_of(px.b, epx.b));
-    power_inverse.add(power_error_of(px.c, epx.c));
+    ref::each_transform_output(a, b, c, s, k, [&](ref::transform_family family, T got, real exact) {
+      switch (family) {
+        case ref::transform_family::clarke: clarke3.add(error_of(got, exact)); break;
+        case ref::transform_family::clarke_two_phase: clarke2.add(error_of(got, exact)); break;
+        case ref::transform_family::inverse_clarke: inverse.add(error_of(got, exact)); break;
+        case ref::transform_family::rotation: rotation.add(error_of(got, exact)); break;
+        case ref::transform_family::power_clarke: power.add(power_error_of(got, exact)); break;
+        case ref::transform_family::power_clarke_two_phase: power2.add(power_error_of(got, exact)); break;
+        case ref::transform_family::power_inverse_clarke: power_inverse.add(power_error_of(got, exact)); break;
+      }
+    });
   }
   const real bound = transform_bound<T>();
   const real park_bound = dqfx::is_fixed_v<T> ? 0.5L : bound;

@@ -12,6 +12,7 @@
 #include "accuracy/table.hpp"
 #include "dqfx/svm.hpp"
 #include "dqfx/transforms.hpp"
+#include "reference/transform_cases.hpp"
 #include "reference/transforms_reference.hpp"
 
 namespace dqfx_report {
@@ -65,41 +66,19 @@ void transform_rows(const char* clarke_bound, const char* park_bound, const char
   }
   for (int i = 0; i < 1'000'000; ++i) {
     const T a = draw<T>(rng), b = draw<T>(rng), c = draw<T>(rng), s = draw<T>(rng), k = draw<T>(rng);
-    const real ra = exact_value(a), rb = exact_value(b), rc = exact_value(c), rs = exact_value(s), rk = exact_value(k);
-    const auto v = dqfx::clarke(dqfx::phases<T>{a, b, c});
-    const auto ev = ref::clarke_amplitude(ra, rb, rc);
-    clarke3.add(error_of(v.alpha, ev.alpha));
-    clarke3.add(error_of(v.beta, ev.beta));
-    const auto w = dqfx::clarke(a, b);
-    const auto ew = ref::clarke_amplitude(ra, rb, -ra - rb);
-    clarke2.add(error_of(w.alpha, ew.alpha));
-    clarke2.add(error_of(w.beta, ew.beta));
-    const auto x = dqfx::inverse_clarke(dqfx::stationary<T>{a, b});
-    const auto ex = ref::inverse_clarke_amplitude(ra, rb);
-    inverse.add(error_of(x.a, ex.a));
-    inverse.add(error_of(x.b, ex.b));
-    inverse.add(error_of(x.c, ex.c));
-    const auto dq = dqfx::park(dqfx::stationary<T>{a, b}, dqfx::sincos<T>{s, k});
-    const auto edq = ref::park(ra, rb, rs, rk);
-    rotation.add(error_of(dq.d, edq.alpha));
-    rotation.add(error_of(dq.q, edq.beta));
-    const auto ab = dqfx::inverse_park(dqfx::rotating<T>{a, b}, dqfx::sincos<T>{s, k});
-    const auto eab = ref::inverse_park(ra, rb, rs, rk);
-    rotation.add(error_of(ab.alpha, eab.alpha));
-    rotation.add(error_of(ab.beta, eab.beta));
-    const auto p = dqfx::clarke<dqfx::power_invariant>(dqfx::phases<T>{a, b, c});
-    const auto ep = ref::clarke_power(ra, rb, rc);
-    const auto px = dqfx::inverse_clarke<dqfx::power_invariant>(dqfx::stationary<T>{a, b});
-    const auto epx = ref::inverse_clarke_power(ra, rb);
     // Power-invariant results reach 2.12: float/double errors relative above 1.
-    auto scaled = [](double e, real exact) {
+    const auto scaled = [](double e, real exact) {
       return std::is_floating_point_v<T> ? e / static_cast<double>(std::fmax(1.0L, std::fabs(exact))) : e;
     };
-    power.add(scaled(error_of(p.alpha, ep.alpha), ep.alpha));
-    power.add(scaled(error_of(p.beta, ep.beta), ep.beta));
-    power.add(scaled(error_of(px.a, epx.a), epx.a));
-    power.add(scaled(error_of(px.b, epx.b), epx.b));
-    power.add(scaled(error_of(px.c, epx.c), epx.c));
+    ref::each_transform_output(a, b, c, s, k, [&](ref::transform_family family, T got, real exact) {
+      switch (family) {
+        case ref::transform_family::clarke: clarke3.add(error_of(got, exact)); break;
+        case ref::transform_family::clarke_two_phase: clarke2.add(error_of(got, exact)); break;
+        case ref::transform_family::inverse_clarke: inverse.add(error_of(got, exact)); break;
+        case ref::transform_family::rotation: rotation.add(error_of(got, exact)); break;
+        default: power.add(scaled(error_of(got, exact), exact)); break;
+      }
+    });
   }
   const char* name = dqfx::number_traits<T>::name;
   const double lsb = dqfx::number_traits<T>::lsb;
