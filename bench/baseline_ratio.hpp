@@ -13,6 +13,8 @@
 #include <map>
 #include <string>
 
+#include "dqfx/fixed.hpp"
+
 namespace dqfx_bench {
 
 inline std::map<std::string, double>& baseline_times() {
@@ -45,6 +47,19 @@ inline void record_baseline(const std::string& name, double ns_per_call) { basel
 inline void report_ratios(benchmark::State& state, const std::string& family, double ns_per_call) {
   for (const auto& [name, ns] : baseline_times())
     if (name.rfind(family, 0) == 0 && ns > 0) state.counters["x_" + name.substr(family.size())] = ns_per_call / ns;
+}
+
+/// Registers a kernel family: the two textbook baselines first (their times are the
+/// ratios' denominators), then dqfx in all four types. `textbook(tag)` and `library(tag)`
+/// return the benchmark function for the type of `tag`.
+template <class Textbook, class Library>
+void register_family(const std::string& family, Textbook textbook, Library library) {
+  benchmark::RegisterBenchmark((family + "textbook_float").c_str(), textbook(float{}));
+  benchmark::RegisterBenchmark((family + "textbook_double").c_str(), textbook(double{}));
+  benchmark::RegisterBenchmark((family + "q15").c_str(), library(dqfx::q15{}));
+  benchmark::RegisterBenchmark((family + "q31").c_str(), library(dqfx::q31{}));
+  benchmark::RegisterBenchmark((family + "float").c_str(), library(float{}));
+  benchmark::RegisterBenchmark((family + "double").c_str(), library(double{}));
 }
 
 }  // namespace dqfx_bench

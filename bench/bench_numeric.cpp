@@ -111,13 +111,9 @@ template <class T, kernel K> void bench_dqfx(benchmark::State& state) {
 }
 
 template <kernel K> void register_kernel() {
-  const std::string f = family(K);
-  benchmark::RegisterBenchmark((f + "textbook_float").c_str(), bench_textbook<float, K>);
-  benchmark::RegisterBenchmark((f + "textbook_double").c_str(), bench_textbook<double, K>);
-  benchmark::RegisterBenchmark((f + "q15").c_str(), bench_dqfx<dqfx::q15, K>);
-  benchmark::RegisterBenchmark((f + "q31").c_str(), bench_dqfx<dqfx::q31, K>);
-  benchmark::RegisterBenchmark((f + "float").c_str(), bench_dqfx<float, K>);
-  benchmark::RegisterBenchmark((f + "double").c_str(), bench_dqfx<double, K>);
+  dqfx_bench::register_family(
+      family(K), [](auto tag) { return &bench_textbook<decltype(tag), K>; },
+      [](auto tag) { return &bench_dqfx<decltype(tag), K>; });
 }
 
 [[maybe_unused]] const bool registered = [] {
