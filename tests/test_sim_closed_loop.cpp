@@ -7,6 +7,7 @@
 
 #include <cmath>
 #include <string>
+#include <utility>
 
 #include "dqfx/current_loop.hpp"
 #include "dqfx/current_sensing.hpp"
@@ -140,20 +141,16 @@ TEST_CASE_TEMPLATE("sim closed loop: at zero current the applied voltage is the 
   CHECK(std::fabs(vd.mean) < 1e-3 * emf);
 }
 
-// Steady state under load: the speed is constant, so the torque 1.5*p*(psi*iq +
-// (Ld - Lq)*id*iq) (Krause, Wasynczuk and Sudhoff) balances load plus friction; checked
-// with the currents the drive itself measured (ADC, offset calibration, Park), including
-// the reluctance share at id* = -5 A.
-TEST_CASE_TEMPLATE("sim closed loop: the drive's measured currents give the load torque by Krause's formula", T, q15,
-                   q31, float, double) {
-  sim::speed_drive_design d = invented_drive();
-  d.id_setpoint = -5.0;
-  d.plant.adc.noise_codes = 1.0;
-  d.plant.adc.offset_codes = {6.0, -4.0, 2.0};
+namespace {
+
+/// Runs the drive at 1500 rpm with a load of `load` N m from 0.1 s on and returns the
+/// mean d/q currents it measured itself (A) over 0.25-0.35 s.
+template <class T>
+std::pair<double, double> steady_currents(const sim::speed_drive_design& d, double load) {
   sim::scenario s;
   s.duration = 0.35;
   s.speed.step(0.02, 1500 * rpm);
-  s.load.step(0.1, 0.5);
+  s.load.step(0.1, load);
   sim::speed_drive<T> drive{d};
   double id = 0, iq = 0;
   int n = 0;
@@ -166,10 +163,23 @@ TEST_CASE_TEMPLATE("sim closed loop: the drive's measured currents give the load
     }
     return duty;
   };
-  const sim::run_result r = sim::run(d.plant, s, observed);
-  REQUIRE(r.outcome.ok());
-  id /= n;
-  iq /= n;
+  REQUIRE(sim::run(d.plant, s, observed).outcome.ok());
+  return {id / n, iq / n};
+}
+
+}  // namespace
+
+// Steady state under load: the speed is constant, so the torque 1.5*p*(psi*iq +
+// (Ld - Lq)*id*iq) (Krause, Wasynczuk and Sudhoff) balances load plus friction; checked
+// with the currents the drive itself measured (ADC, offset calibration, Park), including
+// the reluctance share at id* = -5 A.
+TEST_CASE_TEMPLATE("sim closed loop: the drive's measured currents give the load torque by Krause's formula", T, q15,
+                   q31, float, double) {
+  sim::speed_drive_design d = invented_drive();
+  d.id_setpoint = -5.0;
+  d.plant.adc.noise_codes = 1.0;
+  d.plant.adc.offset_codes = {6.0, -4.0, 2.0};
+  const auto [id, iq] = steady_currents<T>(d, 0.5);
   const sim::motor_parameters& m = d.plant.motor;
   const double torque = 1.5 * m.pole_pairs * (m.flux * iq + (m.ld - m.lq) * id * iq);
   const double load = 0.5 + m.friction * 1500 * rpm;
@@ -185,25 +195,7 @@ TEST_CASE_TEMPLATE("sim closed loop: with MTPA the measured currents sit on the 
                    q31, float, double) {
   sim::speed_drive_design d = invented_drive();
   d.mtpa = true;
-  sim::scenario s;
-  s.duration = 0.35;
-  s.speed.step(0.02, 1500 * rpm);
-  s.load.step(0.1, 0.8);
-  sim::speed_drive<T> drive{d};
-  double id = 0, iq = 0;
-  int n = 0;
-  auto observed = [&](const sim::readings& in, const sim::command& c, sim::probe& p) {
-    const auto duty = drive(in, c, p);
-    if (in.time >= 0.25) {
-      id += dqfx::to_double(drive.last_output().current.d) * base.base_current;
-      iq += dqfx::to_double(drive.last_output().current.q) * base.base_current;
-      ++n;
-    }
-    return duty;
-  };
-  REQUIRE(sim::run(d.plant, s, observed).outcome.ok());
-  id /= n;
-  iq /= n;
+  const auto [id, iq] = steady_currents<T>(d, 0.8);
   const sim::motor_parameters& m = d.plant.motor;
   const double half = m.flux / (2 * (m.lq - m.ld));
   const double mtpa_id = half - std::sqrt(half * half + iq * iq);
