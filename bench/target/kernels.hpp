@@ -251,6 +251,22 @@ struct space_vector_modulation {
   }
 };
 
+struct svm_with_bus {
+  static constexpr const char* name = "svm(bus)";
+  using types = all_types;
+  template <class T> struct input { dqfx::stationary<T> command; T bus; };
+  template <class T> using output = dqfx::phases<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    // The current loop's use: a bus from 0.6 to 1 and commands up to 0.7 of it per axis.
+    const double bus = 0.8 + 0.2 * dqfx::to_double(any_value<T>(r));
+    const double x = 0.7 * bus * dqfx::to_double(any_value<T>(r)), y = 0.7 * bus * dqfx::to_double(any_value<T>(r));
+    return {{dqfx::from_double<T>(x), dqfx::from_double<T>(y)}, dqfx::from_double<T>(bus)};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::svm(in.command, in.bus).duty;
+  }
+};
+
 // Regulation.
 
 struct pi_step {
@@ -470,7 +486,7 @@ template <class... K> struct kernel_list {};
 using timed_kernels = kernel_list<textbook_current_step, current_step, multiply, gain_multiply, sum_of_products,
                                   angle_advance, sine_cosine, vector_angle, vector_magnitude,
                                   clarke_transform, park_transform, inverse_park_transform,
-                                  space_vector_modulation, pi_step, pll_update, encoder_update, hall_update,
+                                  space_vector_modulation, svm_with_bus, pi_step, pll_update, encoder_update, hall_update,
                                   observer_update>;
 
 // Adversarial inputs: the same kernels on the corner cases the fuzzers (tests/fuzz) probe,

@@ -98,38 +98,74 @@ template <class T> struct current_loop_output {
 
 namespace detail {
 
-/// The per-type parts of the loop: the room left for vq in the circle (rounded down so
-/// the limited vector never leaves it) and the input check.
+/// The per-type parts of the loop: the limit of vq in the circle (the room rounded down
+/// so that the limited vector never leaves it), and the checks.
 template <class T, class = void> struct loop_recipe {
-  static T room(T radius, T d) noexcept {
-    constexpr T shrink = T{1} - std::numeric_limits<T>::epsilon();
-    // The squares of a radius far from 1 leave the normal range (float: below 2^-50 or
-    // from 2^60 on) and lose the circle: scale by the radius there instead.
-    constexpr bool single = std::is_same_v<T, float>;
-    constexpr T small = single ? T(0x1p-50) : T(0x1p-400), big = single ? T(0x1p60) : T(0x1p500);
-    if (!(radius > small && radius < big)) {
-      if (!(radius > T{0})) return T{0};
-      const T t = d / radius;
-      return radius * std::sqrt((T{1} - t) * (T{1} + t)) * shrink;
-    }
+  /// q clamped to +/-sqrt(radius^2 - d^2), for |d| <= radius. `AnyRadius`: also radii
+  /// whose squares leave the normal range (float: below 2^-50 or from 2^60 on), scaled
+  /// by the radius there; otherwise the caller has checked `usual`.
+  template <bool AnyRadius>
+  static T limit(T radius, T d, T q) noexcept {
+    const T r = AnyRadius ? room(radius, d) : usual_room(radius, d);
+    return q > r ? r : (q < -r ? -r : q);
+  }
+  /// A radius whose square is a normal number: the fast path (which also implies a
+  /// positive, finite bus voltage with a usable reciprocal).
+  static constexpr bool usual(T radius, T) noexcept { return radius > small && radius < big; }
+  /// All values finite: x - x is zero for finite x, NaN otherwise, and a NaN term makes
+  /// the sum NaN (one comparison for all of them; no libm).
+  template <class... V>
+  static constexpr bool finite(V... v) noexcept {
+    return ((v - v) + ...) == T{0};
+  }
+
+ private:
+  static constexpr bool single = std::is_same_v<T, float>;
+  static constexpr T small = single ? T(0x1p-50) : T(0x1p-400), big = single ? T(0x1p60) : T(0x1p500);
+  static constexpr T shrink = T{1} - std::numeric_limits<T>::epsilon();
+
+  static T usual_room(T radius, T d) noexcept {
     const T r2 = radius * radius - d * d;
     return r2 > T{0} ? std::sqrt(r2) * shrink : T{0};
   }
-  static constexpr bool finite(T v) noexcept { return v - v == v - v; }
+ public:
+  /// sqrt(radius^2 - d^2) rounded down, for any radius (also field_weakening.hpp).
+  static T room(T radius, T d) noexcept {
+    if (usual(radius, d)) return usual_room(radius, d);
+    if (!(radius > T{0})) return T{0};
+    const T t = d / radius;
+    return radius * std::sqrt((T{1} - t) * (T{1} + t)) * shrink;
+  }
 };
 
 template <class T> struct loop_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
   using wide = typename T::wide_type;
   using uwide = std::make_unsigned_t<wide>;
-  static constexpr int bits = T::fraction_bits;
 
   /// radius >= |d| >= 0 holds here, so the difference of squares is in [0, 2^(2*bits)].
-  static constexpr T room(T radius, T d) noexcept {
-    const uwide r = static_cast<uwide>(radius.raw());
-    const uwide m = static_cast<uwide>(d.raw() < 0 ? -wide{d.raw()} : wide{d.raw()});
-    return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(r * r - m * m))));
+  /// The square root only when q is outside (|q| <= floor(sqrt(n)) iff q^2 <= n).
+  template <bool>
+  static constexpr T limit(T radius, T d, T q) noexcept {
+    const uwide room2 = square(radius) - square(d);
+    if (square(q) <= room2) return q;
+    const T r = T::saturated(static_cast<wide>(floor_sqrt(room2)));
+    return q.raw() > 0 ? r : -r;
   }
-  static constexpr bool finite(T) noexcept { return true; }
+  /// floor(sqrt(radius^2 - d^2)) (also field_weakening.hpp).
+  static constexpr T room(T radius, T d) noexcept {
+    return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(square(radius) - square(d)))));
+  }
+  static constexpr bool usual(T, T bus) noexcept { return bus > T{}; }
+  template <class... V>
+  static constexpr bool finite(V...) noexcept {
+    return true;
+  }
+
+ private:
+  static constexpr uwide square(T v) noexcept {
+    const uwide m = static_cast<uwide>(v.raw() < 0 ? -wide{v.raw()} : wide{v.raw()});
+    return m * m;
+  }
 };
 
 }  // namespace detail
@@ -156,39 +192,11 @@ class current_loop {
         radius_{radius_of(p.modulation_limit)} {}
 
   /// One PWM period. Not constexpr for float/double (std::sqrt). Fixed point: no
-  /// libm; one reciprocal (in svm, Newton steps in integer multiplies) and one integer
-  /// square root per call.
-  current_loop_output<T> step(const current_loop_input<T>& in) noexcept {
-    if (!valid(in)) {
-      current_loop_output<T> out{};
-      const T half = from_double<T>(0.5);
-      out.duty = {half, half, half};
-      out.fault = true;
-      return out;
-    }
-    const rotating<T> current = park(clarke(in.current), in.rotor);
-    const T id = current.d, iq = current.q, w = in.speed;
+  /// libm; one reciprocal (in svm, Newton steps in integer multiplies) and, when the
+  /// voltage is limited, one integer square root per call.
+  current_loop_output<T> step(const current_loop_input<T>& in) noexcept { return run<false>(in); }
 
-    const T feed_d = -((w * iq) * lq_);
-    const T feed_q = (w * id) * ld_ + w * flux_;
-    const pi_proposal<T> pd = d_.propose_from(in.setpoint.d, id, feed_d);
-    const pi_proposal<T> pq = q_.propose_from(in.setpoint.q, iq, feed_q);
-
-    // Circular limit, d axis first: the d voltage sets the flux and must not be starved.
-    const T r = in.bus_voltage * radius_;
-    const T vd = clamp(pd.output, -r, r);
-    const T room = recipe::room(r, vd);
-    const T vq = clamp(pq.output, -room, room);
-    d_.commit(pd, vd);
-    q_.commit(pq, vq);
-
-    // Built whole at the end: no zero fill of a result that is overwritten anyway.
-    const rotating<T> voltage{vd, vq};
-    const stationary<T> voltage_stationary = inverse_park(voltage, in.rotor);
-    const modulation_result<T> m = svm<Scheme>(voltage_stationary, in.bus_voltage);
-    return {m.duty, voltage, voltage_stationary, current, r, m.sector, vd != pd.output || vq != pq.output, false};
-  }
-
+  /// Clears both integrators (e.g. before enabling the bridge).
   /// Clears both integrators (e.g. before enabling the bridge).
   constexpr void reset() noexcept {
     d_.reset();
@@ -205,12 +213,64 @@ class current_loop {
     return gain<T>::from_double(m * 0.57735026918962576451);  // 1/sqrt(3)
   }
   static constexpr T clamp(T v, T lo, T hi) noexcept { return v > hi ? hi : (v < lo ? lo : v); }
+
+  /// The period, on one of two paths with the same arithmetic. The fast path (`Careful`
+  /// false) checks once: a usual bus voltage first, then that the errors, sums and new
+  /// integrators are finite (NaN and infinities propagate into them from any input)
+  /// before it stores anything; otherwise it starts again on the careful path, which
+  /// checks every input and step as pi_regulator and svm do on their own and defines
+  /// what bad input gives. Fixed point has nothing to check beyond the bus voltage.
+  template <bool Careful>
+  current_loop_output<T> run(const current_loop_input<T>& in) noexcept {
+    using access = detail::pi_internals;
+    const T r = in.bus_voltage * radius_;
+    if constexpr (Careful) {
+      if (!valid(in)) {
+        current_loop_output<T> out{};
+        const T half = from_double<T>(0.5);
+        out.duty = {half, half, half};
+        out.fault = true;
+        return out;
+      }
+    } else {
+      if (!recipe::usual(r, in.bus_voltage)) return run<true>(in);
+    }
+    const rotating<T> current = park(clarke(in.current), in.rotor);
+    const T id = current.d, iq = current.q, w = in.speed;
+
+    const T feed_d = -((w * iq) * lq_);
+    const T feed_q = (w * id) * ld_ + w * flux_;
+    const pi_proposal<T> pd = Careful ? d_.propose_from(in.setpoint.d, id, feed_d)
+                                      : access::propose(d_, access::widen(in.setpoint.d) - access::widen(id), feed_d);
+    const pi_proposal<T> pq = Careful ? q_.propose_from(in.setpoint.q, iq, feed_q)
+                                      : access::propose(q_, access::widen(in.setpoint.q) - access::widen(iq), feed_q);
+
+    // Circular limit, d axis first: the d voltage sets the flux and must not be starved.
+    const T vd = clamp(pd.output, -r, r);
+    const T vq = recipe::template limit<Careful>(r, vd, pq.output);
+    if constexpr (Careful) {
+      d_.commit(pd, vd);
+      q_.commit(pq, vq);
+    } else {
+      const auto xd = access::next_integral(d_, pd, vd), xq = access::next_integral(q_, pq, vq);
+      if (!recipe::finite(pd.error, pq.error, pd.sum, pq.sum, xd, xq)) return run<true>(in);
+      access::store(d_, xd);
+      access::store(q_, xq);
+    }
+
+    // Built whole at the end: no zero fill of a result that is overwritten anyway.
+    const rotating<T> voltage{vd, vq};
+    const stationary<T> voltage_stationary = inverse_park(voltage, in.rotor);
+    // The fast path has checked what svm checks: a usable bus and a finite command.
+    const modulation_result<T> m =
+        Careful ? svm<Scheme>(voltage_stationary, in.bus_voltage)
+                : detail::modulate<Scheme, overmodulation::keep_angle, false>(voltage_stationary,
+                                                                               extended<T>{in.bus_voltage});
+    return {m.duty, voltage, voltage_stationary, current, r, m.sector, vd != pd.output || vq != pq.output, false};
+  }
   static constexpr bool valid(const current_loop_input<T>& in) noexcept {
-    const bool finite = recipe::finite(in.current.a) && recipe::finite(in.current.b) &&
-                        recipe::finite(in.current.c) && recipe::finite(in.rotor.sin) &&
-                        recipe::finite(in.rotor.cos) && recipe::finite(in.speed) &&
-                        recipe::finite(in.setpoint.d) && recipe::finite(in.setpoint.q) &&
-                        recipe::finite(in.bus_voltage);
+    const bool finite = recipe::finite(in.current.a, in.current.b, in.current.c, in.rotor.sin, in.rotor.cos,
+                                       in.speed, in.setpoint.d, in.setpoint.q, in.bus_voltage);
     return finite && in.bus_voltage > T{};
   }
 

@@ -68,6 +68,7 @@ struct pi_parameters {
 
 namespace detail {
 template <class T, class = void> struct pi_arith;
+struct pi_internals;
 }  // namespace detail
 
 /// The result of `propose`: what the regulator would output, before `commit`.
@@ -98,6 +99,8 @@ template <class T, class> struct pi_arith {
   static constexpr T narrow(state v) noexcept { return v; }
   static constexpr state product(state v, gain_type g) noexcept { return v * g; }
   static constexpr state add(state a, state b) noexcept { return a + b; }
+  /// sum - applied: zero when applied is the unlimited output, which is sum itself here.
+  static constexpr state excess(state sum, T, T applied) noexcept { return sum - applied; }
   static constexpr bool finite(T v) noexcept {
     return v - v == v - v;  // false for NaN and infinities, no libm needed
   }
@@ -142,6 +145,11 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
     return clamp(high * m * (state{1} << s) + round_shift(low * m, 31 - s));
   }
   static constexpr state add(state a, state b) noexcept { return clamp(a + b); }
+  /// sum - applied, or zero when applied is the unlimited output rounded to T (the
+  /// rounding residual is not a limit).
+  static constexpr state excess(state sum, T unlimited, T applied) noexcept {
+    return applied == unlimited ? state{} : sum - widen(applied);
+  }
   static constexpr bool finite(T) noexcept { return true; }
   static constexpr bool finite(state) noexcept { return true; }
 
@@ -241,22 +249,7 @@ class pi_regulator {
       input_fault_ = true;
       return;
     }
-    const state increment = arith::product(p.error, ki_);
-    // > 0: limited from above. Zero when the output is the unlimited value rounded to T
-    // (the rounding residual is not a limit).
-    const state excess = applied == p.unlimited ? state{} : p.sum - arith::widen(applied);
-    if constexpr (std::is_same_v<AntiWindup, conditional_integration>) {
-      const bool deeper = (excess > state{} && increment > state{}) ||
-                          (excess < state{} && increment < state{});
-      if (!deeper) set_integral(arith::add(x_, increment));
-    } else if constexpr (std::is_same_v<AntiWindup, back_calculation>) {
-      // Fixed point, not limited (the usual case): no tracking term, and no wide product
-      // to form. (Float: one multiply is cheaper than the test.)
-      const state tracking = is_fixed_v<T> && excess == state{} ? state{} : arith::product(excess, kt_);
-      set_integral(arith::add(x_, increment - tracking));
-    } else {
-      set_integral(arith::add(x_, increment));
-    }
+    set_integral(next_integral(p, applied));
   }
 
   /// One sample with the regulator's own limits: propose, then commit its output.
@@ -307,9 +300,34 @@ class pi_regulator {
   constexpr pi_proposal<T> propose_error(state error, T feed_forward) const noexcept {
     // float/double: set-point minus measurement can overflow to infinity.
     if (!arith::finite(error) || !arith::finite(feed_forward)) return faulty();
+    return proposal(error, feed_forward);
+  }
+
+  /// The proposal for finite inputs.
+  constexpr pi_proposal<T> proposal(state error, T feed_forward) const noexcept {
     const state sum = arith::add(arith::add(arith::product(error, kp_), x_), arith::widen(feed_forward));
     const T unlimited = arith::narrow(sum);
     return {clamp(unlimited), unlimited, false, error, sum};
+  }
+
+  /// The integrator after a sample whose proposal was limited to `applied` (finite
+  /// inputs); `commit` stores it if it is finite.
+  constexpr state next_integral(const pi_proposal<T>& p, T applied) const noexcept {
+    const state increment = arith::product(p.error, ki_);
+    // > 0: limited from above.
+    const state excess = arith::excess(p.sum, p.unlimited, applied);
+    if constexpr (std::is_same_v<AntiWindup, conditional_integration>) {
+      const bool deeper = (excess > state{} && increment > state{}) ||
+                          (excess < state{} && increment < state{});
+      return deeper ? x_ : arith::add(x_, increment);
+    } else if constexpr (std::is_same_v<AntiWindup, back_calculation>) {
+      // Fixed point, not limited (the usual case): no tracking term, and no wide product
+      // to form. (Float: one multiply is cheaper than the test.)
+      const state tracking = is_fixed_v<T> && excess == state{} ? state{} : arith::product(excess, kt_);
+      return arith::add(x_, increment - tracking);
+    } else {
+      return arith::add(x_, increment);
+    }
   }
 
   /// float/double: an integrator update that overflows (gains or inputs near the float
@@ -322,6 +340,8 @@ class pi_regulator {
     x_ = next;
   }
 
+  friend struct detail::pi_internals;
+
   gain_type kp_{};
   gain_type ki_{};
   gain_type kt_{};
@@ -332,4 +352,31 @@ class pi_regulator {
   bool input_fault_ = false;
 };
 
+namespace detail {
+
+/// The regulator's steps without the per-call finiteness checks, for a kernel that runs
+/// several regulators and checks their inputs and results once (current_loop.hpp): a
+/// proposal from a full-range error, the integrator it would leave, and storing it.
+struct pi_internals {
+  template <class T, class W>
+  static constexpr pi_proposal<T> propose(const pi_regulator<T, W>& r, typename pi_proposal<T>::state error,
+                                          T feed_forward) noexcept {
+    return r.proposal(error, feed_forward);
+  }
+  template <class T, class W>
+  static constexpr typename pi_proposal<T>::state next_integral(const pi_regulator<T, W>& r,
+                                                                const pi_proposal<T>& p, T applied) noexcept {
+    return r.next_integral(p, applied);
+  }
+  template <class T, class W>
+  static constexpr void store(pi_regulator<T, W>& r, typename pi_proposal<T>::state integral) noexcept {
+    r.x_ = integral;
+  }
+  template <class T>
+  static constexpr typename pi_proposal<T>::state widen(T v) noexcept {
+    return pi_arith<T>::widen(v);
+  }
+};
+
+}  // namespace detail
 }  // namespace dqfx
