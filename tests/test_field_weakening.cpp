@@ -11,6 +11,7 @@
 #include "dqfx/sincos.hpp"
 #include "dqfx_sim/sim.hpp"
 #include "reference/setpoint_reference.hpp"
+#include "test_support.hpp"
 
 namespace {
 
@@ -19,20 +20,18 @@ using dqfx::q15;
 using dqfx::q31;
 using dqfx::to_double;
 
-template <class T> double lsb() { return dqfx::number_traits<T>::lsb; }
-template <class T> std::string name() { return dqfx::number_traits<T>::name; }
+using dqfx_test::lsb;
+using dqfx_test::name;
+using dqfx_test::two_pi;
 
-constexpr double two_pi = 6.283185307179586477;
-
-// The simulator demo's invented interior-magnet motor and load (examples/demo: 0.12 ohm,
-// 180/260 uH, 11 mWb, 4 pole pairs, 2e-4 kg m^2, 2e-5 N m s) on its 48 V bus, with
-// invented bases wide enough for field weakening and an invented 30 A limit: the demo's
+// The simulator demo's invented interior-magnet motor and load (test_support.hpp, and
+// 2e-4 kg m^2, 2e-5 N m s) on its 48 V bus, with an invented 30 A limit: the demo's
 // 15 A cannot reach 1.5 times base speed at all (the back-EMF there needs id = -19 A
 // before any torque), whatever the controller.
-constexpr dqfx::per_unit_base base{40.0, 80.0, two_pi * 1000, 4};
-constexpr dqfx::pm_motor_data motor{0.12, 180e-6, 260e-6, 0.011};
+constexpr const dqfx::per_unit_base& base = dqfx_test::demo_base;
+constexpr const dqfx::pm_motor_data& motor = dqfx_test::demo_motor;
 constexpr double inertia = 2e-4, friction = 2e-5, sample_time = 50e-6;
-constexpr double bus = 48.0 / 80.0;
+constexpr double bus = dqfx_test::demo_bus;
 constexpr double current_limit = 30.0;
 constexpr dqfx::torque_setpoint_parameters demo = dqfx::design_torque_setpoint(base, motor, current_limit);
 

@@ -13,6 +13,7 @@
 #include "dqfx/current_sensing.hpp"
 #include "dqfx/sincos.hpp"
 #include "dqfx_sim/sim.hpp"
+#include "test_support.hpp"
 
 namespace {
 
@@ -21,7 +22,7 @@ using dqfx::q15;
 using dqfx::q31;
 using sim::pi;
 
-template <class T> std::string name() { return dqfx::number_traits<T>::name; }
+using dqfx_test::name;
 
 constexpr double rpm = 2 * pi / 60;
 

@@ -10,6 +10,7 @@
 
 #include "dqfx/torque_setpoint.hpp"
 #include "reference/setpoint_reference.hpp"
+#include "test_support.hpp"
 
 namespace {
 
@@ -18,16 +19,12 @@ using dqfx::q15;
 using dqfx::q31;
 using dqfx::to_double;
 
-template <class T> double lsb() { return dqfx::number_traits<T>::lsb; }
-template <class T> std::string name() { return dqfx::number_traits<T>::name; }
-
-constexpr double two_pi = 6.283185307179586477;
-
-// The simulator demo's invented interior-magnet motor (examples/demo: 0.12 ohm, 180/260 uH,
-// 11 mWb, 4 pole pairs) on invented bases wide enough for field weakening, 30 A limit.
-constexpr dqfx::per_unit_base demo_base{40.0, 80.0, two_pi * 1000, 4};
-constexpr dqfx::pm_motor_data demo_motor{0.12, 180e-6, 260e-6, 0.011};
-constexpr double demo_bus = 48.0 / 80.0;
+using dqfx_test::demo_base;  // the simulator demo's invented motor, here with a 30 A limit
+using dqfx_test::demo_bus;
+using dqfx_test::demo_motor;
+using dqfx_test::lsb;
+using dqfx_test::name;
+using dqfx_test::two_pi;
 
 // Invented motors, per unit: the demo; an interior-magnet motor with strong saliency; a
 // magnet-assisted reluctance motor (reluctance torque dominates, 2 (lq - ld) imax / psi = 19);
