@@ -25,7 +25,14 @@ template <class AW> constexpr reference::windup mode_of() {
   return reference::windup::none;
 }
 
-reference::pi reference_of(const dqfx::pi_parameters& p, reference::windup mode, bool fixed) {
+// The documented range of the fixed-point sum kp*e + x + ff (pi_regulator.hpp).
+template <class T> double sum_range() {
+  if constexpr (std::is_same_v<T, q15>) return 16.0;
+  if constexpr (std::is_same_v<T, q31>) return 256.0;
+  return 1e300;
+}
+
+reference::pi reference_of(const dqfx::pi_parameters& p, reference::windup mode, double range) {
   reference::pi r;
   r.kp = p.kp;
   r.ki = p.ki;
@@ -33,7 +40,7 @@ reference::pi reference_of(const dqfx::pi_parameters& p, reference::windup mode,
   r.lo = p.lower;
   r.hi = p.upper;
   r.mode = mode;
-  if (fixed) r.range = 256.0;
+  r.range = range;
   return r;
 }
 
@@ -63,7 +70,7 @@ template <class T, class AW> trajectory_difference closed_loop_difference(std::u
   p.lower = -0.7;
   p.upper = 0.6;
   dqfx::pi_regulator<T, AW> pi{p};
-  reference::pi ref = reference_of(p, mode_of<AW>(), dqfx::number_traits<T>::is_fixed);
+  reference::pi ref = reference_of(p, mode_of<AW>(), sum_range<T>());
 
   const double a = 0.95, bound = trajectory_bound_lsb<T>() * lsb<T>();
   double y = 0, y_ref = 0;
@@ -359,12 +366,20 @@ static_assert(constexpr_q15.upper() == dqfx::from_double<q15>(0.5), "constexpr l
 static_assert(!constexpr_q15.limits_fault(), "limits in order");
 
 TEST_CASE("pi_regulator: q15 integrates errors far below one q15 LSB per sample") {
-  // ki = 1e-3: ki*e is below half a q15 LSB for |e| < 16 LSB. The q31 integrator still
-  // moves, so the loop has no dead band of that size.
+  // ki = 2^-6 and e = 2 LSB: ki*e = 1/32 LSB per sample, exactly 32 units of the 2^-25
+  // integrator, so 10,000 samples add exactly 312.5 LSB with no dead band.
   dqfx::pi_parameters p{};
-  p.ki = 1e-3;
+  p.ki = 1.0 / 64;
   dqfx::pi_regulator<q15> pi{p};
   const q15 e = q15::from_raw(2);
   for (int k = 0; k < 10000; ++k) pi.step(e);
-  CHECK(to_double(pi.integral()) == doctest::Approx(10000 * 1e-3 * to_double(e)).epsilon(1e-3));
+  CHECK(pi.integral() == q15::from_raw(313));  // 312.5 rounded up
+  // ki = 1e-3: ki*e = 0.002 LSB, 2.048 units, rounds to two units per sample: the
+  // integrator still moves (resolution 2^-10 LSB), within half a unit per sample.
+  dqfx::pi_parameters slow{};
+  slow.ki = 1e-3;
+  dqfx::pi_regulator<q15> fine{slow};
+  for (int k = 0; k < 10000; ++k) fine.step(e);
+  const double exact = 10000 * 1e-3 * to_double(e), half_unit = 10000 * 0.5 * 0x1p-25;
+  CHECK(std::fabs(to_double(fine.integral()) - exact) <= half_unit + 0.5 * lsb<q15>());
 }

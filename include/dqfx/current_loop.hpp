@@ -109,6 +109,8 @@ template <class T, class = void> struct loop_recipe {
     const T r = AnyRadius ? room(radius, d) : usual_room(radius, d);
     return q > r ? r : (q < -r ? -r : q);
   }
+  /// x * g (the loop's constants).
+  static constexpr T times(T x, gain<T> g) noexcept { return x * g; }
   /// A radius whose square is a normal number: the fast path (which also implies a
   /// positive, finite bus voltage with a usable reciprocal).
   static constexpr bool usual(T radius, T) noexcept { return radius > small && radius < big; }
@@ -154,6 +156,20 @@ template <class T> struct loop_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
   /// floor(sqrt(radius^2 - d^2)) (also field_weakening.hpp).
   static constexpr T room(T radius, T d) noexcept {
     return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(square(radius) - square(d)))));
+  }
+  /// x * g, the same value as the number layer's product. q15 with a constant below
+  /// 2^14 (shift s <= 14): x * 2^15 * m fits the high word of one 32x32->64 product, and
+  /// round(x*m / 2^(31-s)) is that high word plus 2^(13-s), shifted right by 14-s (no
+  /// 64-bit shift by a variable amount).
+  static constexpr T times(T x, gain<T> g) noexcept {
+    if constexpr (std::is_same_v<T, q15>) {
+      const int s = g.shift();
+      if (s <= 14) {
+        const auto high = static_cast<std::int32_t>((std::int64_t{x.raw() * 32768} * g.mantissa()) >> 32);
+        return T::saturated((high + (1 << (13 - s))) >> (14 - s));
+      }
+    }
+    return x * g;
   }
   static constexpr bool usual(T, T bus) noexcept { return bus > T{}; }
   template <class... V>
@@ -223,7 +239,7 @@ class current_loop {
   template <bool Careful>
   current_loop_output<T> run(const current_loop_input<T>& in) noexcept {
     using access = detail::pi_internals;
-    const T r = in.bus_voltage * radius_;
+    const T r = recipe::times(in.bus_voltage, radius_);
     if constexpr (Careful) {
       if (!valid(in)) {
         current_loop_output<T> out{};
@@ -238,8 +254,8 @@ class current_loop {
     const rotating<T> current = park(clarke(in.current), in.rotor);
     const T id = current.d, iq = current.q, w = in.speed;
 
-    const T feed_d = -((w * iq) * lq_);
-    const T feed_q = (w * id) * ld_ + w * flux_;
+    const T feed_d = -recipe::times(w * iq, lq_);
+    const T feed_q = recipe::times(w * id, ld_) + recipe::times(w, flux_);
     const pi_proposal<T> pd = Careful ? d_.propose_from(in.setpoint.d, id, feed_d)
                                       : access::propose(d_, access::widen(in.setpoint.d) - access::widen(id), feed_d);
     const pi_proposal<T> pq = Careful ? q_.propose_from(in.setpoint.q, iq, feed_q)

@@ -10,10 +10,13 @@
 /// Gains of any magnitude: in fixed point each gain is a `dqfx::gain<q31>` (31-bit
 /// mantissa m and a shift s, value = m * 2^(s-31), |value| < 2^30), so kp = 40 and
 /// ki = 1e-4 both keep 31 significant bits and cost one 32x32->64 product and one
-/// rounding. In fixed point the integrator x and the sum kp*e + x + ff are 64-bit
-/// integers in units of 2^-31 with a range of +/-256: a q15 integrator still moves when
-/// ki*e is far below one q15 LSB, and a proportional term of 3 against an integrator of
-/// -2.5 gives 0.5, not a clipped 1 - 2.5. Only the output is rounded (once) to T.
+/// rounding. In fixed point the integrator x and the sum kp*e + x + ff are wider than T:
+/// q15 32-bit integers in units of 2^-25 with a range of +/-16 (the whole regulator in
+/// 32-bit arithmetic), q31 64-bit integers in units of 2^-31 with a range of +/-256. So
+/// a q15 integrator still moves when ki*e is far below one q15 LSB (down to 2^-11 LSB per
+/// sample), and a proportional term of 3
+/// against an integrator of -2.5 gives 0.5, not a clipped 1 - 2.5. Only the output is
+/// rounded (once) to T.
 ///
 /// Anti-windup is a compile-time policy tag:
 ///   - `conditional_integration`: the integrator holds while the output is limited and
@@ -77,7 +80,7 @@ template <class T> struct pi_proposal {
   T output{};                ///< within the regulator's limits
   T unlimited{};             ///< kp*e + x + feed_forward, rounded and saturated to T
   bool input_fault = false;  ///< a non-finite float input: output is zero (limited)
-  state error{};             ///< the error, full range (fixed point: 2^-31 units)
+  state error{};             ///< the error, full range (fixed point: the state's units)
   state sum{};               ///< kp*e + x + feed_forward, full range
 };
 
@@ -88,8 +91,8 @@ namespace detail {
 inline void pi_limits_in_wrong_order_lower_must_not_exceed_upper() noexcept {}
 
 /// The regulator's arithmetic per value type. For float and double it is plain T. For
-/// q15 and q31 the integrator and the sum kp*e + x + ff are 64-bit integers in units of
-/// 2^-31, kept within +/-256 (so a large proportional term, an opposite integrator and
+/// q15 and q31 the integrator and the sum kp*e + x + ff are wider integers (pi_layout),
+/// kept within their headroom (so a large proportional term, an opposite integrator and
 /// back-calculation from far outside the limits all act exactly), and the output is
 /// rounded once to T.
 template <class T, class> struct pi_arith {
@@ -98,6 +101,7 @@ template <class T, class> struct pi_arith {
   static constexpr state widen(T v) noexcept { return v; }
   static constexpr T narrow(state v) noexcept { return v; }
   static constexpr state product(state v, gain_type g) noexcept { return v * g; }
+  static constexpr state error_product(state v, gain_type g) noexcept { return v * g; }
   static constexpr state add(state a, state b) noexcept { return a + b; }
   /// sum - applied: zero when applied is the unlimited output, which is sum itself here.
   static constexpr state excess(state sum, T, T applied) noexcept { return sum - applied; }
@@ -106,13 +110,30 @@ template <class T, class> struct pi_arith {
   }
 };
 
-template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
+/// Fixed-point state per type: q15 a 32-bit integer in units of 2^-25 (10 bits below one
+/// q15 LSB) within +/-16, so that sums of three terms never overflow 32 bits and the
+/// whole regulator runs in 32-bit arithmetic; q31 a 64-bit integer in units of 2^-31
+/// within +/-256.
+template <class T> struct pi_layout;
+template <> struct pi_layout<q15> {
+  using state = std::int32_t;
+  static constexpr int unit_bits = 25;
+  static constexpr state headroom = state{1} << 29;  // 16 in units of 2^-25
+};
+template <> struct pi_layout<q31> {
   using state = std::int64_t;
-  using gain_type = gain<q31>;
+  static constexpr int unit_bits = 31;
   static constexpr state headroom = state{1} << 39;  // 256 in units of 2^-31
-  static constexpr int up = 31 - T::fraction_bits;
+};
 
-  static constexpr state widen(T v) noexcept { return state{v.raw()} * (state{1} << up); }
+template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
+  using layout = pi_layout<T>;
+  using state = typename layout::state;
+  using gain_type = gain<q31>;
+  static constexpr state headroom = layout::headroom;
+  static constexpr int up = layout::unit_bits - T::fraction_bits;
+
+  static constexpr state widen(T v) noexcept { return static_cast<state>(state{v.raw()} * (state{1} << up)); }
   static constexpr T narrow(state v) noexcept {
     if constexpr (up == 0) {
       return T::saturated(v);
@@ -123,27 +144,46 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
   /// v * g rounded once, for |v| <= 2^41 and any gain: v is split at bit 31 so that
   /// each partial product fits in 64 bits; the result is clamped to +/-headroom.
   static constexpr state product(state v, gain_type g) noexcept {
-    const state m = g.mantissa();
+    const std::int64_t m = g.mantissa();
     const int s = g.shift();
-    // |v| < 2^31 (errors and excesses below one): a single 32x32->64 product rounded
-    // once, the same value as the split below at a fraction of its cost.
+    // |v| < 2^31 (always for q15; q31 errors and excesses below one): a single
+    // 32x32->64 product rounded once, the same value as the split below at a fraction
+    // of its cost.
     if (v >= INT32_MIN && v <= INT32_MAX) {
       return clamp(detail::product_round_shift(static_cast<std::int32_t>(v), g.mantissa(), 31 - s));
     }
     // Beyond the headroom already by the whole part of |v| / 2^31: saturate before the
     // shifted terms below could overflow. (Not by `high`: for a small negative v it is
     // -1, and its term cancels against the low one.)
-    const state whole = (v < 0 ? -v : v) >> 31;       // |v| <= 2^41
+    const std::int64_t w = v;
+    const std::int64_t whole = (w < 0 ? -w : w) >> 31;  // |v| <= 2^41
     if (whole * (m < 0 ? -m : m) > (headroom >> s)) {
       note_saturation();
-      return (v < 0) != (m < 0) ? -headroom : headroom;
+      return (w < 0) != (m < 0) ? -headroom : headroom;
     }
-    const state high = v >> 31;                       // floor(v / 2^31), |high| <= 2^10
-    const state low = v - high * (state{1} << 31);    // in [0, 2^31)
+    const std::int64_t high = w >> 31;                             // floor(v / 2^31), |high| <= 2^10
+    const std::int64_t low = w - high * (std::int64_t{1} << 31);   // in [0, 2^31)
     // v*m*2^(s-31) = high*m*2^s + low*m*2^(s-31); the first term is exact, and both
     // stay below 2^62 in magnitude after the check above.
-    return clamp(high * m * (state{1} << s) + round_shift(low * m, 31 - s));
+    return clamp(high * m * (std::int64_t{1} << s) + round_shift(low * m, 31 - s));
   }
+  /// e * g for an error e = set-point - measurement (|e| < 2^26 for q15), the same value
+  /// as `product`. q15 with a gain below 8 (shift s <= 3): e * 2^5 * m fits the high word
+  /// of one 32x32->64 product, and round(e*m / 2^(31-s)) is that high word plus 2^(3-s),
+  /// shifted right by 4-s (the low word only carries below the rounding point); |e*g| is
+  /// below 2^29, inside the headroom, so there is nothing to clamp.
+  static constexpr state error_product(state e, gain_type g) noexcept {
+    if constexpr (std::is_same_v<state, std::int32_t>) {
+      constexpr int lift = 30 - layout::unit_bits;  // |e| < 2^(unit_bits + 1)
+      const int s = g.shift();
+      if (s < lift - 1) {
+        const auto high = static_cast<std::int32_t>((std::int64_t{e * (1 << lift)} * g.mantissa()) >> 32);
+        return (high + (1 << (lift - 2 - s))) >> (lift - 1 - s);
+      }
+    }
+    return product(e, g);
+  }
+  /// Sums of two terms within the headroom: no overflow before the clamp.
   static constexpr state add(state a, state b) noexcept { return clamp(a + b); }
   /// sum - applied, or zero when applied is the unlimited output rounded to T (the
   /// rounding residual is not a limit).
@@ -154,10 +194,10 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
   static constexpr bool finite(state) noexcept { return true; }
 
  private:
-  static constexpr state clamp(state v) noexcept {
+  static constexpr state clamp(std::int64_t v) noexcept {
     if (v > headroom) { note_saturation(); return headroom; }
     if (v < -headroom) { note_saturation(); return -headroom; }
-    return v;
+    return static_cast<state>(v);
   }
 };
 
@@ -305,7 +345,7 @@ class pi_regulator {
 
   /// The proposal for finite inputs.
   constexpr pi_proposal<T> proposal(state error, T feed_forward) const noexcept {
-    const state sum = arith::add(arith::add(arith::product(error, kp_), x_), arith::widen(feed_forward));
+    const state sum = arith::add(arith::add(arith::error_product(error, kp_), x_), arith::widen(feed_forward));
     const T unlimited = arith::narrow(sum);
     return {clamp(unlimited), unlimited, false, error, sum};
   }
@@ -313,7 +353,7 @@ class pi_regulator {
   /// The integrator after a sample whose proposal was limited to `applied` (finite
   /// inputs); `commit` stores it if it is finite.
   constexpr state next_integral(const pi_proposal<T>& p, T applied) const noexcept {
-    const state increment = arith::product(p.error, ki_);
+    const state increment = arith::error_product(p.error, ki_);
     // > 0: limited from above.
     const state excess = arith::excess(p.sum, p.unlimited, applied);
     if constexpr (std::is_same_v<AntiWindup, conditional_integration>) {
