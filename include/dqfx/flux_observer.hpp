@@ -37,11 +37,12 @@
 ///
 /// Bad input: a NaN or infinite current or voltage (float/double) raises `input_fault()`;
 /// the flux state holds, the speed holds its last good value and the angle advances at it.
-/// Finite values saturate in every type: q15/q31 by their arithmetic, float/double where
-/// the q31 state would (inputs clamped to +/-1024 per unit, far beyond any real reading;
-/// the flux state, its active-flux part and the radial correction to +/-1 at the state's
-/// scale), so any finite input gives a finite flux and speed, and normal inputs, which
-/// stay well inside, give the same results as without the limits. `reset` with a NaN or
+/// Finite values saturate in every type: q15/q31 by their arithmetic, float/double at
+/// limits of their own: inputs are clamped to +/-1024 per unit (far beyond any real
+/// reading), the flux state and the reported flux to +/-1 at the state's scale (the range
+/// of the q31 state). With the gains bounded by the design rules no intermediate value can
+/// overflow then, so any finite input gives a finite flux and speed; normal inputs never
+/// reach the limits and give the same results as without them. `reset` with a NaN or
 /// infinite speed raises `input_fault()` and restarts the PLL at speed 0.
 /// Designs outside the rules of `parameter_fault()` raise it (a compile-time error for a
 /// constexpr observer) and give an observer that ignores its inputs.
@@ -109,7 +110,19 @@ constexpr S limited(S v, double limit) noexcept {
     return v > most ? most : (v < -most ? -most : v);
   }
 }
-/// The observer's inputs, per unit, and its state at its power-of-two scale.
+/// |v| <= limit: false for NaN and infinities (float/double); true for q15/q31. The
+/// observer tests its inputs and state with it, and limits them only when it fails.
+template <class S>
+constexpr bool inside(S v, double limit) noexcept {
+  if constexpr (is_fixed_v<S>) {
+    static_cast<void>(limit);
+    return true;
+  } else {
+    return abs(v) <= static_cast<S>(limit);
+  }
+}
+/// Float/double limits of the observer's inputs (per unit) and of its flux state (at its
+/// power-of-two scale: the range of the q31 state).
 constexpr double observer_input_limit = 1024.0;
 constexpr double observer_state_limit = 1.0;
 
@@ -175,33 +188,49 @@ class flux_observer {
   /// just ended (per unit, stationary frame).
   constexpr void update(stationary<T> current, stationary<T> voltage) noexcept {
     if (parameter_fault_) return;
-    if (detail::non_finite(current.alpha) || detail::non_finite(current.beta) ||
-        detail::non_finite(voltage.alpha) || detail::non_finite(voltage.beta)) {
-      input_fault_ = true;
-      pll_.coast();
-      return;
+    if constexpr (!is_fixed_v<T>) {
+      // One range test per input on the usual path; the rare path tells NaN and infinity
+      // (refused) from finite values beyond the range (clamped).
+      constexpr double most = detail::observer_input_limit;
+      if (!(detail::inside(current.alpha, most) && detail::inside(current.beta, most) &&
+            detail::inside(voltage.alpha, most) && detail::inside(voltage.beta, most))) {
+        if (detail::non_finite(current.alpha) || detail::non_finite(current.beta) ||
+            detail::non_finite(voltage.alpha) || detail::non_finite(voltage.beta)) {
+          input_fault_ = true;
+          pll_.coast();
+          return;
+        }
+        current = {detail::limited(current.alpha, most), detail::limited(current.beta, most)};
+        voltage = {detail::limited(voltage.alpha, most), detail::limited(voltage.beta, most)};
+      }
     }
-    const stationary<S> i{input(current.alpha), input(current.beta)};
-    const stationary<S> v{input(voltage.alpha), input(voltage.beta)};
+    const stationary<S> i{detail::widen<S>(current.alpha), detail::widen<S>(current.beta)};
+    const stationary<S> v{detail::widen<S>(voltage.alpha), detail::widen<S>(voltage.beta)};
     // Radial correction from the flux estimate at the start of the period.
-    const stationary<S> eta{state(x_.alpha - i_.alpha * inductance_), state(x_.beta - i_.beta * inductance_)};
-    const S radial = state(accumulator<S>{active_flux_ * active_flux_}
-                               .subtract_product(eta.alpha, eta.alpha)
-                               .subtract_product(eta.beta, eta.beta)
-                               .result() *
-                           correction_gain_);
-    x_.alpha = state(x_.alpha + v.alpha * voltage_gain_ - i.alpha * resistance_gain_ - i_.alpha * resistance_gain_ +
-                     radial * eta.alpha);
-    x_.beta = state(x_.beta + v.beta * voltage_gain_ - i.beta * resistance_gain_ - i_.beta * resistance_gain_ +
-                    radial * eta.beta);
+    const stationary<S> eta{x_.alpha - i_.alpha * inductance_, x_.beta - i_.beta * inductance_};
+    const S radial = accumulator<S>{active_flux_ * active_flux_}
+                         .subtract_product(eta.alpha, eta.alpha)
+                         .subtract_product(eta.beta, eta.beta)
+                         .result() *
+                     correction_gain_;
+    x_.alpha = x_.alpha + v.alpha * voltage_gain_ - i.alpha * resistance_gain_ - i_.alpha * resistance_gain_ +
+               radial * eta.alpha;
+    x_.beta = x_.beta + v.beta * voltage_gain_ - i.beta * resistance_gain_ - i_.beta * resistance_gain_ +
+              radial * eta.beta;
+    if constexpr (!is_fixed_v<S>) {
+      constexpr double edge = detail::observer_state_limit;
+      if (!(detail::inside(x_.alpha, edge) && detail::inside(x_.beta, edge))) {
+        x_ = {detail::limited(x_.alpha, edge), detail::limited(x_.beta, edge)};
+      }
+    }
     i_ = i;
-    eta_ = {state(x_.alpha - i.alpha * inductance_), state(x_.beta - i.beta * inductance_)};
+    eta_ = {x_.alpha - i.alpha * inductance_, x_.beta - i.beta * inductance_};
     observed_ = detail::angle_of<T>(detail::narrow<T>(eta_.alpha), detail::narrow<T>(eta_.beta));
     pll_.update(observed_);
     if (salient_) {
       // psi_a = psi + (Ld - Lq) id, with id along the angle just found.
       const sincos<S> sc = sincos_of<S>(observed_);
-      active_flux_ = state(flux_ + sum_of_products(i.alpha, sc.cos, i.beta, sc.sin) * saliency_);
+      active_flux_ = flux_ + sum_of_products(i.alpha, sc.cos, i.beta, sc.sin) * saliency_;
     }
     const T w = abs(pll_.speed());
     trusted_ = trusted_ ? !(w < minimum_) : w > trust_;
@@ -212,7 +241,9 @@ class flux_observer {
   constexpr void reset(angle rotor, T speed = T{}) noexcept {
     input_fault_ = input_fault_ || detail::non_finite(speed);
     const sincos<S> sc = sincos_of<S>(rotor);
-    x_ = {state(i_.alpha * inductance_ + sc.cos * flux_), state(i_.beta * inductance_ + sc.sin * flux_)};
+    constexpr double edge = detail::observer_state_limit;
+    x_ = {detail::limited(i_.alpha * inductance_ + sc.cos * flux_, edge),
+          detail::limited(i_.beta * inductance_ + sc.sin * flux_, edge)};
     eta_ = {sc.cos * flux_, sc.sin * flux_};
     active_flux_ = flux_;
     observed_ = rotor;
@@ -230,7 +261,9 @@ class flux_observer {
   constexpr angle observed() const noexcept { return observed_; }
   /// The estimated active flux vector eta, per unit (saturated to T).
   constexpr stationary<T> flux() const noexcept {
-    return {detail::narrow<T>(eta_.alpha * unscale_), detail::narrow<T>(eta_.beta * unscale_)};
+    constexpr double edge = detail::observer_state_limit;
+    return {detail::narrow<T>(detail::limited(eta_.alpha, edge) * unscale_),
+            detail::narrow<T>(detail::limited(eta_.beta, edge) * unscale_)};
   }
   /// Above the minimum speed (with 20 % hysteresis): the estimate can be used to control.
   constexpr bool trusted() const noexcept { return trusted_; }
@@ -246,11 +279,6 @@ class flux_observer {
   constexpr const tracking_pll<T>& pll() const noexcept { return pll_; }
 
  private:
-  /// A finite input, clamped (float/double) to the observer's input range.
-  static constexpr S input(T v) noexcept { return detail::widen<S>(detail::limited(v, detail::observer_input_limit)); }
-  /// A state value, clamped (float/double) to the range of the q31 state.
-  static constexpr S state(S v) noexcept { return detail::limited(v, detail::observer_state_limit); }
-
   static constexpr double step_of(const flux_observer_parameters& p) noexcept {
     return p.sample_time * p.base_speed;  // per-unit time per sample
   }
