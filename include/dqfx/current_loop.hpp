@@ -158,13 +158,13 @@ template <class T> struct loop_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
     return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(square(radius) - square(d)))));
   }
   /// x * g, the same value as the number layer's product. q15 with a constant below
-  /// 2^14 (shift s <= 14): x * 2^15 * m fits the high word of one 32x32->64 product, and
+  /// 2^13 (shift s <= 13): x * 2^15 * m fits the high word of one 32x32->64 product, and
   /// round(x*m / 2^(31-s)) is that high word plus 2^(13-s), shifted right by 14-s (no
-  /// 64-bit shift by a variable amount).
+  /// 64-bit shift by a variable amount; at s = 14 the high word has no bit left to round).
   static constexpr T times(T x, gain<T> g) noexcept {
     if constexpr (std::is_same_v<T, q15>) {
       const int s = g.shift();
-      if (s <= 14) {
+      if (s <= 13) {
         const auto high = static_cast<std::int32_t>((std::int64_t{x.raw() * 32768} * g.mantissa()) >> 32);
         return T::saturated((high + (1 << (13 - s))) >> (14 - s));
       }

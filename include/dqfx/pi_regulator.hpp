@@ -31,8 +31,9 @@
 /// both at once with the regulator's own limits.
 ///
 /// Error bounds (tests/test_pi_regulator.cpp, against a textbook double PI):
-///   one step: kp*e + x + ff with the gains as held, rounded once: q15 and q31 within
-///   0.5 LSB; float within 1.5 ulp of the size of the terms; double likewise.
+///   one step: kp*e + x + ff with the gains as held: q31 rounded once, within 0.5 LSB;
+///   q15 within 0.5 + 2^-11 LSB (kp*e is rounded to the 2^-25 unit of the state first);
+///   float within 1.5 ulp of the size of the terms; double likewise.
 ///   closed loop, 100,000 samples with saturation episodes and run-time limit changes:
 ///   back-calculation within 3 LSB (q15), 16 LSB (q31), 8 eps (float), 4 eps (double).
 ///   Conditional integration switches, so where the two sit on either side of a limit

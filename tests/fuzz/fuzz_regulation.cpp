@@ -58,8 +58,9 @@ void regulator(byte_reader& in) {
         const long double kp = std::ldexp(static_cast<long double>(pi.kp().mantissa()), pi.kp().shift() - 31);
         want = kp * exact(e) + exact(ff);
         if (std::fabs(want) < 255) {
-          // 0.5 LSB of T, plus the 2^-31 rounding of the product inside (2^-16 LSB of q15).
-          const long double tolerance = lsb<T>() / 2 + std::ldexp(1.0L, -31);
+          // pi_regulator.hpp: 0.5 LSB (q31), 0.5 + 2^-11 LSB (q15: kp*e is rounded to the
+          // 2^-25 state unit first).
+          const long double tolerance = lsb<T>() / 2 + (std::is_same_v<T, q15> ? std::ldexp(1.0L, -26) : 0.0L);
           DQFX_FUZZ_CHECK(std::fabs(exact(proposal.unlimited) - saturated<T>(want)) <= tolerance);
         }
       } else {
