@@ -140,6 +140,55 @@ constexpr E clamp_duty(E d, E full) noexcept {
   return d > full ? full : (d < E{} ? E{} : d);
 }
 
+/// Division of the modulator's extended values by one positive denominator (the bus, or
+/// the spread of an over-modulated command), |num| <= den: divisor<T> (extended.hpp),
+/// except for q15, which needs none of its 64-bit steps.
+template <class T> struct modulation_divisor : divisor<T> {
+  using divisor<T>::divisor;
+};
+
+/// q15: a 32-bit reciprocal of den (normalised to d in [2^31, 2^32)), seeded by one
+/// 32-bit division and refined by one Newton step (within 2^-29 relative), and each
+/// quotient one 32x32->64 product: within 2^-29 of num/den, truncated to the extended
+/// resolution 2^-28. The same integer steps on every core.
+template <> class modulation_divisor<q15> {
+  using ext = extended<q15>;
+
+ public:
+  constexpr explicit modulation_divisor(ext den) noexcept : den_{static_cast<std::uint32_t>(den.raw())} {
+    if (den.raw() <= 0) {
+      den_ = 0;
+      return;
+    }
+    shift_ = leading_zeros(den_);  // >= 1: den < 2^31
+    const std::uint32_t d = den_ << shift_;
+    // r ~ 2^63 / d: 2^48 / d from the top 16 bits (relative error below 2^-15), then
+    // r += r * (2^63 - d r) / 2^63 with the error term kept at 2^-43.
+    std::uint64_t r = std::uint64_t{0xFFFFFFFFu / (d >> 16)} << 15;
+    const std::uint64_t dr = d * r;  // < 2^64
+    constexpr std::uint64_t one = std::uint64_t{1} << 63;
+    const std::int64_t error = dr <= one ? static_cast<std::int64_t>((one - dr) >> 20)
+                                         : -static_cast<std::int64_t>((dr - one) >> 20);
+    const std::int64_t next = static_cast<std::int64_t>(r) + ((static_cast<std::int64_t>(r) * error) >> 43);
+    reciprocal_ = next > 0xFFFFFFFF ? 0xFFFFFFFFu : static_cast<std::uint32_t>(next);
+  }
+
+  constexpr ext operator()(ext num) const noexcept {
+    const std::uint32_t u = magnitude_of(num.raw());
+    if (u >= den_) return den_ == 0 ? ext{} : (num.raw() < 0 ? -ext::one() : ext::one());
+    // (u << shift) / d * 2^31 = num/den * 2^31; three bits more than the extended scale.
+    const auto q = static_cast<std::int32_t>(((std::uint64_t{u << shift_} * reciprocal_) >> 32) >> 3);
+    return ext::from_raw(num.raw() < 0 ? -q : q);
+  }
+
+ private:
+  static constexpr int leading_zeros(std::uint32_t n) noexcept { return __builtin_clz(n); }
+
+  std::uint32_t den_;
+  int shift_ = 0;
+  std::uint32_t reciprocal_ = 0;
+};
+
 /// The modulation of a command relative to `bus` (positive); `PerBus`: bus is one and
 /// no division is needed in the linear range.
 template <class Scheme, class Limit, bool PerBus, class T>
@@ -187,65 +236,53 @@ constexpr modulation_result<T> modulate(stationary<T> command, extended<T> bus) 
     if (PerBus && !(keep_angle && out.limited)) {
       for (int p = 0; p < 3; ++p) d[p] = half + x[p];
     } else {
-      const divisor<T> over{denominator};
+      const modulation_divisor<T> over{denominator};
       for (int p = 0; p < 3; ++p) d[p] = half + over(x[p]);
     }
     for (E& r : d) r = clamp_duty(r, full);
     out.duty = {d[0].rounded(), d[1].rounded(), d[2].rounded()};
   } else {
-    // Hexagon schemes: the top and bottom phases sit symmetrically about their middle,
-    // at +/- q_top; only the middle phase has an offset of its own.
+    static_assert(std::is_same_v<Scheme, modulation::centred> || std::is_same_v<Scheme, modulation::clamp_low> ||
+                      std::is_same_v<Scheme, modulation::clamp_high> || std::is_same_v<Scheme, modulation::clamp_peak>,
+                  "unknown modulation scheme");
+    // Hexagon schemes, phase by phase: d_x = base + (x_x - offset) / den. The scheme's
+    // zero sequence is (offset, base): the mean of the highest and lowest reference at
+    // 50 % (centred), the lowest at 0, the highest at 100 %. den is the bus, or the
+    // spread of an over-modulated command whose angle is kept (which puts the highest
+    // and lowest phase one bus apart). No search for the phase of each rank.
     const E spread = top - bottom;
-    E x_middle = pick(v, o.middle) - (top + bottom).half();
-    E q_top{}, q_middle{};
     out.limited = spread > bus;
-    if (!out.limited) {
-      if constexpr (PerBus) {
-        q_top = spread.half();
-        q_middle = x_middle;
-      } else {
-        const divisor<T> over{bus};
-        q_top = over(spread.half());
-        q_middle = over(x_middle);
-      }
-    } else {
-      q_top = half;  // on the boundary: top and bottom one bus apart
-      if constexpr (keep_angle) {
-        q_middle = divisor<T>{spread}(x_middle);
-      } else {
-        x_middle = clamp_symmetric(x_middle, bus.half());
-        q_middle = PerBus ? x_middle : divisor<T>{bus}(x_middle);
-      }
+    // Written out per phase, no arrays: indexed values cost a round trip through memory.
+    E x0 = v[0], x1 = v[1], x2 = v[2];
+    E high = top, low = bottom;
+    if (!keep_angle && out.limited) {
+      // Nearest point: the references about their mid-point clamped to half a bus each
+      // way (the centred duties clamped to [0, 1]).
+      const E centre = (top + bottom).half(), half_bus = bus.half();
+      x0 = clamp_symmetric(x0 - centre, half_bus);
+      x1 = clamp_symmetric(x1 - centre, half_bus);
+      x2 = clamp_symmetric(x2 - centre, half_bus);
+      high = half_bus;
+      low = -half_bus;
     }
-    // The scheme's zero sequence.
     bool to_top = std::is_same_v<Scheme, modulation::clamp_high>;
     if constexpr (std::is_same_v<Scheme, modulation::clamp_peak>) to_top = top + bottom >= E{};
-    // Duties by rank (top, middle, bottom), handed to the phases at the end: no
-    // indexed stores, which cost a round trip through memory.
-    E d_top{}, d_middle{}, d_bottom{};
+    E offset = to_top ? high : low, base = to_top ? full : E{};
     if constexpr (std::is_same_v<Scheme, modulation::centred>) {
-      d_top = half + q_top;
-      d_middle = half + q_middle;
-      d_bottom = half - q_top;
-    } else {
-      static_assert(std::is_same_v<Scheme, modulation::clamp_low> || std::is_same_v<Scheme, modulation::clamp_high> ||
-                        std::is_same_v<Scheme, modulation::clamp_peak>,
-                    "unknown modulation scheme");
-      if (to_top) {
-        d_top = full;
-        d_middle = full - (q_top - q_middle);
-        d_bottom = full - q_top * 2;
-      } else {
-        d_top = q_top * 2;
-        d_middle = q_middle + q_top;
-        d_bottom = E{};
-      }
+      offset = (high + low).half();
+      base = half;
     }
-    const T duty_top = clamp_duty(d_top, full).rounded();
-    const T duty_middle = clamp_duty(d_middle, full).rounded();
-    const T duty_bottom = clamp_duty(d_bottom, full).rounded();
-    const auto phase = [&](unsigned p) { return p == o.top ? duty_top : (p == o.bottom ? duty_bottom : duty_middle); };
-    out.duty = {phase(0), phase(1), phase(2)};
+    x0 = x0 - offset;
+    x1 = x1 - offset;
+    x2 = x2 - offset;
+    if (!PerBus || (keep_angle && out.limited)) {
+      const modulation_divisor<T> over{keep_angle && out.limited ? spread : bus};
+      x0 = over(x0);
+      x1 = over(x1);
+      x2 = over(x2);
+    }
+    out.duty = {clamp_duty(base + x0, full).rounded(), clamp_duty(base + x1, full).rounded(),
+                clamp_duty(base + x2, full).rounded()};
   }
   return out;
 }
