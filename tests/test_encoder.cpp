@@ -7,6 +7,7 @@
 
 #include "dqfx/encoder.hpp"
 #include "dqfx_sim/sensors.hpp"
+#include "test_support.hpp"
 
 namespace {
 
@@ -14,14 +15,14 @@ using dqfx::q15;
 using dqfx::q31;
 using dqfx::to_double;
 
-template <class T> std::string name() { return dqfx::number_traits<T>::name; }
-template <class T> double lsb() { return dqfx::number_traits<T>::lsb; }
+using dqfx_test::name;
+using dqfx_test::lsb;
 
 // Invented drive: 20 kHz, speed 1.0 = 1000 Hz electrical, 4 pole pairs, 1000-line encoder
 // (4000 counts per turn: not a divisor of the 16-bit counter's 65536), 100 MHz capture timer.
-constexpr double two_pi = 6.283185307179586477;
-constexpr double base_speed = two_pi * 1000;
-constexpr double ts = 50e-6;
+using dqfx_test::base_speed;  // 1000 Hz electrical
+using dqfx_test::ts;          // 20 kHz
+using dqfx_test::two_pi;
 constexpr double tick_hz = 100e6;
 constexpr std::uint32_t cpt = 4000;
 constexpr std::uint32_t pole_pairs = 4;

@@ -9,6 +9,7 @@
 #include "dqfx/hall.hpp"
 #include "dqfx_sim/sensors.hpp"
 #include "reference/pmsm_model.hpp"
+#include "test_support.hpp"
 
 namespace {
 
@@ -16,12 +17,12 @@ using dqfx::q15;
 using dqfx::q31;
 using dqfx::to_double;
 
-template <class T> std::string name() { return dqfx::number_traits<T>::name; }
+using dqfx_test::name;
 
 // Invented drive: 20 kHz, speed 1.0 = 1000 Hz electrical, 10 MHz capture timer.
-constexpr double two_pi = 6.283185307179586477;
-constexpr double base_speed = two_pi * 1000;
-constexpr double ts = 50e-6;
+using dqfx_test::base_speed;  // 1000 Hz electrical
+using dqfx_test::ts;          // 20 kHz
+using dqfx_test::two_pi;
 constexpr double tick_hz = 10e6;
 
 // Invented sensor placement: states 1,3,2,6,4,5 turning forward, the first beginning at

@@ -5,6 +5,7 @@
 #include <string>
 
 #include "dqfx/number.hpp"
+#include "dqfx/current_loop.hpp"  // pm_motor_data
 #include "dqfx/per_unit.hpp"
 
 namespace dqfx_test {
@@ -15,6 +16,11 @@ template <class T> double lsb() { return dqfx::number_traits<T>::lsb; }
 template <class T> std::string name() { return dqfx::number_traits<T>::name; }
 
 constexpr double two_pi = 6.283185307179586477;
+
+// Invented estimator timing shared by the encoder, Hall and PLL suites: 20 kHz sampling,
+// speed 1.0 = 1000 Hz electrical.
+constexpr double base_speed = two_pi * 1000;
+constexpr double ts = 50e-6;
 
 // The simulator demo's invented interior-magnet motor (examples/demo: 0.12 ohm, 180/260 uH,
 // 11 mWb, 4 pole pairs; not a real product) on invented bases wide enough for field

@@ -7,6 +7,7 @@
 
 #include "dqfx/tracking_pll.hpp"
 #include "reference/pmsm_model.hpp"
+#include "test_support.hpp"
 
 namespace {
 
@@ -14,12 +15,12 @@ using dqfx::q15;
 using dqfx::q31;
 using dqfx::to_double;
 
-template <class T> std::string name() { return dqfx::number_traits<T>::name; }
+using dqfx_test::name;
 
 // Invented drive timing: 20 kHz, speed 1.0 = 1000 Hz electrical.
-constexpr double two_pi = 6.283185307179586477;
-constexpr double base_speed = two_pi * 1000;
-constexpr double ts = 50e-6;
+using dqfx_test::base_speed;  // 1000 Hz electrical
+using dqfx_test::ts;          // 20 kHz
+using dqfx_test::two_pi;
 constexpr double rad_per_sample = base_speed * ts;  // at speed 1.0
 
 double degrees_between(dqfx::angle a, double radians) {
