@@ -386,3 +386,27 @@ TEST_CASE("pi_regulator: q15 integrates errors far below one q15 LSB per sample"
   const double exact = 10000 * 1e-3 * to_double(e), half_unit = 10000 * 0.5 * 0x1p-25;
   CHECK(std::fabs(to_double(fine.integral()) - exact) <= half_unit + 0.5 * lsb<q15>());
 }
+
+TEST_CASE("pi_regulator: the rounded 16x32 product is exact in both forms") {
+  // The value every core must produce: floor((d*m + 2^(shift-1)) / 2^shift) in 64 bits.
+  auto exact = [](std::int32_t d, std::int32_t m, int shift) {
+    return static_cast<std::int32_t>((std::int64_t{d} * m + (std::int64_t{1} << (shift - 1))) >> shift);
+  };
+  std::mt19937_64 rng{23};
+  const std::int32_t ds[] = {-65535, -65534, -32768, -1, 0, 1, 32767, 65534, 65535};
+  const std::int32_t ms[] = {INT32_MIN, INT32_MIN + 1, -65536, -65535, -256, -1, 0, 1, 255, 65535, 65536, INT32_MAX};
+  for (int shift = 18; shift <= 31; ++shift) {
+    for (std::int32_t d : ds) {
+      for (std::int32_t m : ms) {
+        CHECK(dqfx::detail::rounded_product16_wide(d, m, shift) == exact(d, m, shift));
+        CHECK(dqfx::detail::rounded_product16_narrow(d, m, shift) == exact(d, m, shift));
+      }
+    }
+    for (int k = 0; k < 100000; ++k) {
+      const auto d = static_cast<std::int32_t>(rng() % 131071) - 65535;
+      const auto m = static_cast<std::int32_t>(static_cast<std::int64_t>(rng() % 4294967296u) - 2147483648);
+      REQUIRE(dqfx::detail::rounded_product16_wide(d, m, shift) == exact(d, m, shift));
+      REQUIRE(dqfx::detail::rounded_product16_narrow(d, m, shift) == exact(d, m, shift));
+    }
+  }
+}

@@ -157,17 +157,12 @@ template <class T> struct loop_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
   static constexpr T room(T radius, T d) noexcept {
     return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(square(radius) - square(d)))));
   }
-  /// x * g, the same value as the number layer's product. q15 with a constant below
-  /// 2^13 (shift s <= 13): x * 2^15 * m fits the high word of one 32x32->64 product, and
-  /// round(x*m / 2^(31-s)) is that high word plus 2^(13-s), shifted right by 14-s (no
-  /// 64-bit shift by a variable amount; at s = 14 the high word has no bit left to round).
+  /// x * g, the same value as the number layer's product: q15 with a constant below 2^13
+  /// (shift s <= 13) as one `rounded_product16` (no 64-bit shift by a variable amount).
   static constexpr T times(T x, gain<T> g) noexcept {
     if constexpr (std::is_same_v<T, q15>) {
       const int s = g.shift();
-      if (s <= 13) {
-        const auto high = static_cast<std::int32_t>((std::int64_t{x.raw() * 32768} * g.mantissa()) >> 32);
-        return T::saturated((high + (1 << (13 - s))) >> (14 - s));
-      }
+      if (s <= 13) return T::saturated(rounded_product16(x.raw(), g.mantissa(), 31 - s));
     }
     return x * g;
   }
@@ -257,9 +252,9 @@ class current_loop {
     const T feed_d = -recipe::times(w * iq, lq_);
     const T feed_q = recipe::times(w * id, ld_) + recipe::times(w, flux_);
     const pi_proposal<T> pd = Careful ? d_.propose_from(in.setpoint.d, id, feed_d)
-                                      : access::propose(d_, access::widen(in.setpoint.d) - access::widen(id), feed_d);
+                                      : access::propose(d_, in.setpoint.d, id, feed_d);
     const pi_proposal<T> pq = Careful ? q_.propose_from(in.setpoint.q, iq, feed_q)
-                                      : access::propose(q_, access::widen(in.setpoint.q) - access::widen(iq), feed_q);
+                                      : access::propose(q_, in.setpoint.q, iq, feed_q);
 
     // Circular limit, d axis first: the d voltage sets the flux and must not be starved.
     const T vd = clamp(pd.output, -r, r);

@@ -111,6 +111,33 @@ template <class T, class> struct pi_arith {
   }
 };
 
+/// floor((d * m + 2^(shift-1)) / 2^shift), the product of a 17-bit d (|d| < 2^16) and a
+/// 32-bit m rounded at 18 <= shift <= 31, exactly and without a 64-bit shift by a
+/// variable amount: the high word of (d * 2^15) * m is floor(d*m / 2^17).
+constexpr std::int32_t rounded_product16_wide(std::int32_t d, std::int32_t m, int shift) noexcept {
+  const auto top = static_cast<std::int32_t>((std::int64_t{d * 32768} * m) >> 32);
+  return (top + (1 << (shift - 18))) >> (shift - 17);
+}
+
+/// The same value from three 16x16 products, for cores without a 32x32->64 multiply.
+/// m = high*2^16 + mid*2^8 + low (high signed, mid and low in [0, 256)): every partial
+/// product fits in 32 bits, and d*m = v*2^16 + r with 0 <= r < 2^16.
+constexpr std::int32_t rounded_product16_narrow(std::int32_t d, std::int32_t m, int shift) noexcept {
+  const std::int32_t high = m >> 16, mid = (m >> 8) & 0xFF, low = m & 0xFF;
+  const std::int32_t u = d * mid + ((d * low) >> 8);
+  const std::int32_t v = d * high + (u >> 8);
+  return (v + (1 << (shift - 17))) >> (shift - 16);
+}
+
+/// The rounded 16x32 product: ARMv6-M has no 32x32->64 multiply (a library call there).
+constexpr std::int32_t rounded_product16(std::int32_t d, std::int32_t m, int shift) noexcept {
+#if defined(__ARM_ARCH_6M__)
+  return rounded_product16_narrow(d, m, shift);
+#else
+  return rounded_product16_wide(d, m, shift);
+#endif
+}
+
 /// Fixed-point state per type: q15 a 32-bit integer in units of 2^-25 (10 bits below one
 /// q15 LSB) within +/-16, so that sums of three terms never overflow 32 bits and the
 /// whole regulator runs in 32-bit arithmetic; q31 a 64-bit integer in units of 2^-31
@@ -168,19 +195,15 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
     // stay below 2^62 in magnitude after the check above.
     return clamp(high * m * (std::int64_t{1} << s) + round_shift(low * m, 31 - s));
   }
-  /// e * g for an error e = set-point - measurement (|e| < 2^26 for q15), the same value
-  /// as `product`. q15 with a gain below 8 (shift s <= 3): e * 2^5 * m fits the high word
-  /// of one 32x32->64 product, and round(e*m / 2^(31-s)) is that high word plus 2^(3-s),
-  /// shifted right by 4-s (the low word only carries below the rounding point); |e*g| is
+  /// e * g for an error e = set-point - measurement (a difference of two widened values),
+  /// the same value as `product`. q15 with a gain below 8 (shift s <= 3): e is a 17-bit
+  /// difference times 2^10, so e*g = d*m / 2^(21-s), one `rounded_product16`; |e*g| is
   /// below 2^29, inside the headroom, so there is nothing to clamp.
   static constexpr state error_product(state e, gain_type g) noexcept {
-    if constexpr (std::is_same_v<state, std::int32_t>) {
-      constexpr int lift = 30 - layout::unit_bits;  // |e| < 2^(unit_bits + 1)
+    if constexpr (std::is_same_v<T, q15>) {
+      static_assert(up == 10, "q15 errors are 17-bit differences times 2^10");
       const int s = g.shift();
-      if (s < lift - 1) {
-        const auto high = static_cast<std::int32_t>((std::int64_t{e * (1 << lift)} * g.mantissa()) >> 32);
-        return (high + (1 << (lift - 2 - s))) >> (lift - 1 - s);
-      }
+      if (s <= 3) return rounded_product16(e >> up, g.mantissa(), 21 - s);
     }
     return product(e, g);
   }
@@ -400,9 +423,9 @@ namespace detail {
 /// proposal from a full-range error, the integrator it would leave, and storing it.
 struct pi_internals {
   template <class T, class W>
-  static constexpr pi_proposal<T> propose(const pi_regulator<T, W>& r, typename pi_proposal<T>::state error,
+  static constexpr pi_proposal<T> propose(const pi_regulator<T, W>& r, T setpoint, T measurement,
                                           T feed_forward) noexcept {
-    return r.proposal(error, feed_forward);
+    return r.proposal(pi_arith<T>::widen(setpoint) - pi_arith<T>::widen(measurement), feed_forward);
   }
   template <class T, class W>
   static constexpr typename pi_proposal<T>::state next_integral(const pi_regulator<T, W>& r,
@@ -412,10 +435,6 @@ struct pi_internals {
   template <class T, class W>
   static constexpr void store(pi_regulator<T, W>& r, typename pi_proposal<T>::state integral) noexcept {
     r.x_ = integral;
-  }
-  template <class T>
-  static constexpr typename pi_proposal<T>::state widen(T v) noexcept {
-    return pi_arith<T>::widen(v);
   }
 };
 
