@@ -437,3 +437,20 @@ TEST_CASE("Modulation is a constant expression") {
   static_assert(h.duty.a == 1.0 && h.sector == 1);
   CHECK(m.sector == 1);
 }
+
+TEST_CASE("The high word of a 32x32 product is the same in both forms") {
+  // What every core must produce: floor(a * b / 2^32) in 64 bits.
+  const std::uint32_t corners[] = {0u, 1u, 0xFFFFu, 0x10000u, 0x7FFFFFFFu, 0x80000000u, 0xFFFF0000u, 0xFFFFFFFFu};
+  for (std::uint32_t a : corners) {
+    for (std::uint32_t b : corners) {
+      const auto exact = static_cast<std::uint32_t>((std::uint64_t{a} * b) >> 32);
+      CHECK(dqfx::detail::multiply_high_wide(a, b) == exact);
+      CHECK(dqfx::detail::multiply_high_narrow(a, b) == exact);
+    }
+  }
+  std::mt19937_64 rng{29};
+  for (int k = 0; k < 1000000; ++k) {
+    const auto a = static_cast<std::uint32_t>(rng()), b = static_cast<std::uint32_t>(rng());
+    REQUIRE(dqfx::detail::multiply_high_narrow(a, b) == static_cast<std::uint32_t>((std::uint64_t{a} * b) >> 32));
+  }
+}

@@ -2,7 +2,8 @@
 #pragma once
 /// \file
 /// The field-oriented current loop, one call per PWM period, for q15, q31, float and
-/// double (one code path; per-type recipes only for a square root and a division).
+/// double (one code path; per-type recipes only for the limit's square root, the checks
+/// and q15's products with the loop's constants).
 ///
 ///   phase currents --Clarke--> alpha/beta --Park--> id, iq
 ///   ed = id* - id, eq = iq* - iq
@@ -25,7 +26,10 @@
 /// modulation_limit * vdc / sqrt(3) (fixed point: checked on exact integer squares).
 ///
 /// Bad input: a NaN or infinite float input, or a bus voltage <= 0 (any type), leaves
-/// both regulators untouched and gives zero voltage, 50% duties and `fault`.
+/// both regulators untouched and gives zero voltage, 50% duties and `fault`. The check
+/// costs little: the step checks the bus once and, before it stores anything, that the
+/// sums and new integrators are finite; only when not does it run the period
+/// again checking every input and step (see `run`).
 
 #include <cmath>
 #include <cstdint>
@@ -203,8 +207,8 @@ class current_loop {
         radius_{radius_of(p.modulation_limit)} {}
 
   /// One PWM period. Not constexpr for float/double (std::sqrt). Fixed point: no
-  /// libm; one reciprocal (in svm, Newton steps in integer multiplies) and, when the
-  /// voltage is limited, one integer square root per call.
+  /// libm; one reciprocal (in svm, integer multiplies) and, when the voltage is
+  /// limited, one integer square root per call.
   current_loop_output<T> step(const current_loop_input<T>& in) noexcept { return run<false>(in); }
 
   /// Clears both integrators (e.g. before enabling the bridge).
@@ -226,7 +230,7 @@ class current_loop {
   static constexpr T clamp(T v, T lo, T hi) noexcept { return v > hi ? hi : (v < lo ? lo : v); }
 
   /// The period, on one of two paths with the same arithmetic. The fast path (`Careful`
-  /// false) checks once: a usual bus voltage first, then that the errors, sums and new
+  /// false) checks once: a usual bus voltage first, then that the sums and new
   /// integrators are finite (NaN and infinities propagate into them from any input)
   /// before it stores anything; otherwise it starts again on the careful path, which
   /// checks every input and step as pi_regulator and svm do on their own and defines
@@ -264,7 +268,8 @@ class current_loop {
       q_.commit(pq, vq);
     } else {
       const auto xd = access::next_integral(d_, pd, vd), xq = access::next_integral(q_, pq, vq);
-      if (!recipe::finite(pd.error, pq.error, pd.sum, pq.sum, xd, xq)) return run<true>(in);
+      // A non-finite error makes its sum non-finite too (kp*e is infinite or NaN).
+      if (!recipe::finite(pd.sum, pq.sum, xd, xq)) return run<true>(in);
       access::store(d_, xd);
       access::store(q_, xq);
     }

@@ -34,8 +34,10 @@
 ///   command / bus         0.5 + 2^-11 LSB      0.75 LSB   2.4e-7    5e-16
 ///   command and bus b     0.5 + 2^-10/b LSB    1.25 LSB   4.8e-7    1e-15
 /// Line-to-line differences are within twice these. q15 works in 32-bit integers with 13
-/// guard bits (cheap on a 32-bit core); q31 carries the 32-bit constant sqrt(3) and (with
-/// a bus) a 32-bit reciprocal. For q15/q31, whose range stops one LSB short of 1, a
+/// guard bits (cheap on a 32-bit core) and divides by a 32-bit reciprocal (one 32-bit
+/// division and one Newton step); q31 carries the 32-bit constant sqrt(3) and (with a
+/// bus) a 32-bit reciprocal. Each phase's duty is base + (reference - offset) / bus, the
+/// scheme's zero sequence in (offset, base): no search for the phase of each rank. For q15/q31, whose range stops one LSB short of 1, a
 /// duty of max() stands for 100 % (the PWM conversion maps it to the full period) and
 /// `clamp_high` ties its phase exactly there. Because [0, max()] is one LSB shorter than
 /// [0, 1], a duty that ends on either rail (0 or max()) may be one LSB further from its
@@ -147,6 +149,29 @@ template <class T> struct modulation_divisor : divisor<T> {
   using divisor<T>::divisor;
 };
 
+/// floor(a * b / 2^32): the high word of one 32x32->64 product.
+constexpr std::uint32_t multiply_high_wide(std::uint32_t a, std::uint32_t b) noexcept {
+  return static_cast<std::uint32_t>((std::uint64_t{a} * b) >> 32);
+}
+
+/// The same value from four 16x16 products, for cores without a 32x32->64 multiply.
+constexpr std::uint32_t multiply_high_narrow(std::uint32_t a, std::uint32_t b) noexcept {
+  const std::uint32_t al = a & 0xFFFFu, ah = a >> 16, bl = b & 0xFFFFu, bh = b >> 16;
+  const std::uint32_t high_low = ah * bl;
+  // At most 2^32 - 1: (2^16 - 1)^2 + 2 (2^16 - 1).
+  const std::uint32_t cross = ((al * bl) >> 16) + (high_low & 0xFFFFu) + al * bh;
+  return ah * bh + (high_low >> 16) + (cross >> 16);
+}
+
+/// ARMv6-M has no 32x32->64 multiply (a library call there).
+constexpr std::uint32_t multiply_high(std::uint32_t a, std::uint32_t b) noexcept {
+#if defined(__ARM_ARCH_6M__)
+  return multiply_high_narrow(a, b);
+#else
+  return multiply_high_wide(a, b);
+#endif
+}
+
 /// q15: a 32-bit reciprocal of den (normalised to d in [2^31, 2^32)), seeded by one
 /// 32-bit division and refined by one Newton step (within 2^-29 relative), and each
 /// quotient one 32x32->64 product: within 2^-29 of num/den, truncated to the extended
@@ -177,7 +202,7 @@ template <> class modulation_divisor<q15> {
     const std::uint32_t u = magnitude_of(num.raw());
     if (u >= den_) return den_ == 0 ? ext{} : (num.raw() < 0 ? -ext::one() : ext::one());
     // (u << shift) / d * 2^31 = num/den * 2^31; three bits more than the extended scale.
-    const auto q = static_cast<std::int32_t>(((std::uint64_t{u << shift_} * reciprocal_) >> 32) >> 3);
+    const auto q = static_cast<std::int32_t>(multiply_high(u << shift_, reciprocal_) >> 3);
     return ext::from_raw(num.raw() < 0 ? -q : q);
   }
 
