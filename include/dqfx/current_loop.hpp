@@ -240,15 +240,14 @@ class current_loop {
     using access = detail::pi_internals;
     const T r = recipe::times(in.bus_voltage, radius_);
     if constexpr (Careful) {
-      if (!valid(in)) {
-        current_loop_output<T> out{};
-        const T half = from_double<T>(0.5);
-        out.duty = {half, half, half};
-        out.fault = true;
-        return out;
+      if (!valid(in)) return faulted();
+    } else if (!recipe::usual(r, in.bus_voltage)) {
+      // Fixed point: the bus voltage is all there is to check.
+      if constexpr (is_fixed_v<T>) {
+        return faulted();
+      } else {
+        return run<true>(in);
       }
-    } else {
-      if (!recipe::usual(r, in.bus_voltage)) return run<true>(in);
     }
     const rotating<T> current = park(clarke(in.current), in.rotor);
     const T id = current.d, iq = current.q, w = in.speed;
@@ -283,6 +282,13 @@ class current_loop {
                 : detail::modulate<Scheme, overmodulation::keep_angle, false>(voltage_stationary,
                                                                                extended<T>{in.bus_voltage});
     return {m.duty, voltage, voltage_stationary, current, r, m.sector, vd != pd.output || vq != pq.output, false};
+  }
+  static constexpr current_loop_output<T> faulted() noexcept {
+    current_loop_output<T> out{};
+    const T half = from_double<T>(0.5);
+    out.duty = {half, half, half};
+    out.fault = true;
+    return out;
   }
   static constexpr bool valid(const current_loop_input<T>& in) noexcept {
     const bool finite = recipe::finite(in.current.a, in.current.b, in.current.c, in.rotor.sin, in.rotor.cos,
