@@ -116,9 +116,11 @@ constexpr E clamp_symmetric(E x, E limit) noexcept {
 /// Whether x counts as above y in the phase ordering. Equal references sit on a sector
 /// boundary; counting x above exactly when the third phase z is above both puts every
 /// boundary angle into the sector that starts there, so the sectors form a partition.
+/// (Equality written as !(x < y) after x > y: the references are never NaN, and one
+/// floating-point comparison then serves both tests.)
 template <class E>
 constexpr unsigned above(E x, E y, E z) noexcept {
-  return (x > y || (x == y && z > x)) ? 1u : 0u;
+  return (x > y || (!(x < y) && z > x)) ? 1u : 0u;
 }
 
 /// The phase ordering in one 60-degree sector (sector k covers [60(k-1), 60k) degrees).
