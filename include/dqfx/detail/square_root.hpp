@@ -56,10 +56,29 @@ constexpr std::uint32_t floor_sqrt(std::uint32_t n) noexcept {
 #endif
 }
 
-/// floor(sqrt(n)) for 64-bit n (digit by digit above 2^32).
+/// floor(sqrt(n)) for 64-bit n. Above 2^32: n normalised to m = n * 4^k in [2^62, 2^64),
+/// the root of its top 32 bits (16 bits, above) and one Newton step for the low 16 bits in
+/// one 32-bit division; that lands within [-1, +2] of the floor, which two squares down
+/// and one up settle. ARMv6-M (no divide, no 32x32->64 multiply): digit by digit.
 constexpr std::uint64_t floor_sqrt(std::uint64_t n) noexcept {
   if (n <= 0xFFFFFFFFu) return floor_sqrt(static_cast<std::uint32_t>(n));
+#if defined(__ARM_ARCH_6M__)
   return bitwise_floor_sqrt(n);
+#else
+  const int shift = __builtin_clzll(n) & ~1;
+  const std::uint64_t m = n << shift;
+  const auto top = static_cast<std::uint32_t>(m >> 32);  // in [2^30, 2^32)
+  const std::uint32_t high = floor_sqrt(top);             // in [2^15, 2^16)
+  const std::uint32_t rest = top - high * high;           // <= 2 high, so rest << 15 < 2^32
+  // sqrt(m) = high*2^16 + d with d = (rest*2^32 + low - d^2) / (high*2^17): the step
+  // rest*2^15 / high misses d by less than one either way before rounding down.
+  std::uint64_t root = (std::uint64_t{high} << 16) + (rest << 15) / high;
+  if (root > 0xFFFFFFFFu) root = 0xFFFFFFFFu;  // floor(sqrt(m)) < 2^32
+  if (root * root > m) --root;
+  if (root * root > m) --root;
+  if (root < 0xFFFFFFFFu && (root + 1) * (root + 1) <= m) ++root;
+  return root >> (shift / 2);
+#endif
 }
 
 /// sqrt(n) rounded to nearest (ties cannot occur for integers).
