@@ -115,7 +115,7 @@ template <class T, class> struct pi_arith {
 /// 32-bit m rounded at 18 <= shift <= 31, exactly and without a 64-bit shift by a
 /// variable amount: the high word of (d * 2^15) * m is floor(d*m / 2^17).
 constexpr std::int32_t rounded_product16_wide(std::int32_t d, std::int32_t m, int shift) noexcept {
-  const auto top = static_cast<std::int32_t>((std::int64_t{d * 32768} * m) >> 32);
+  const auto top = static_cast<std::int32_t>((static_cast<std::int64_t>(d * 32768) * m) >> 32);
   return (top + (1 << (shift - 18))) >> (shift - 17);
 }
 

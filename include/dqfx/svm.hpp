@@ -153,7 +153,7 @@ template <class T> struct modulation_divisor : divisor<T> {
 
 /// floor(a * b / 2^32): the high word of one 32x32->64 product.
 constexpr std::uint32_t multiply_high_wide(std::uint32_t a, std::uint32_t b) noexcept {
-  return static_cast<std::uint32_t>((std::uint64_t{a} * b) >> 32);
+  return static_cast<std::uint32_t>((static_cast<std::uint64_t>(a) * b) >> 32);
 }
 
 /// The same value from four 16x16 products, for cores without a 32x32->64 multiply.
