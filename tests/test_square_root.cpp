@@ -66,6 +66,24 @@ TEST_CASE("floor_sqrt and rounded_sqrt: 64-bit inputs") {
     REQUIRE(is_floor_root(n, floor_sqrt(n)));
     REQUIRE(is_rounded_root(n, rounded_sqrt(n)));
   }
+  // Perfect squares and their neighbours, where a Newton step that lands one off shows:
+  // random roots of every size, the roots around each power of two, and the largest.
+  std::uint64_t misses = 0;
+  const auto check_around = [&](std::uint64_t r) {
+    const std::uint64_t square = r * r;  // r < 2^32; for r = 0, square - 1 wraps to 2^64 - 1, also an input
+    for (const std::uint64_t n : {square - 1, square, square + 1, square + 2 * r}) {
+      if (!is_floor_root(n, floor_sqrt(n)) || !is_rounded_root(n, rounded_sqrt(n))) ++misses;
+    }
+  };
+  for (int i = 0; i < 1'000'000; ++i) check_around((rng() >> 32) >> (rng() & 31));
+  for (int k = 1; k < 32; ++k) {
+    for (std::uint64_t d = 0; d < 64; ++d) {
+      check_around((std::uint64_t{1} << k) - d - 1);
+      check_around((std::uint64_t{1} << k) + d);
+    }
+  }
+  check_around(0xFFFFFFFFu);
+  CHECK(misses == 0);
   const std::uint64_t top = ~std::uint64_t{0};
   CHECK(floor_sqrt(top) == 4294967295u);
   CHECK(floor_sqrt(std::uint64_t{1} << 62) == (std::uint64_t{1} << 31));
