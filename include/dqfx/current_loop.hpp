@@ -113,8 +113,6 @@ template <class T, class = void> struct loop_recipe {
     const T r = AnyRadius ? room(radius, d) : usual_room(radius, d);
     return q > r ? r : (q < -r ? -r : q);
   }
-  /// x * g (the loop's constants).
-  static constexpr T times(T x, gain<T> g) noexcept { return x * g; }
   /// A radius whose square is a normal number: the fast path (which also implies a
   /// positive, finite bus voltage with a usable reciprocal).
   static constexpr bool usual(T radius, T) noexcept { return radius > small && radius < big; }
@@ -160,15 +158,6 @@ template <class T> struct loop_recipe<T, std::enable_if_t<is_fixed_v<T>>> {
   /// floor(sqrt(radius^2 - d^2)) (also field_weakening.hpp).
   static constexpr T room(T radius, T d) noexcept {
     return T::saturated(static_cast<wide>(floor_sqrt(static_cast<uwide>(square(radius) - square(d)))));
-  }
-  /// x * g, the same value as the number layer's product: q15 with a constant below 2^13
-  /// (shift s <= 13) as one `rounded_product16` (no 64-bit shift by a variable amount).
-  static constexpr T times(T x, gain<T> g) noexcept {
-    if constexpr (std::is_same_v<T, q15>) {
-      const int s = g.shift();
-      if (s <= 13) return T::saturated(rounded_product16(x.raw(), g.mantissa(), 31 - s));
-    }
-    return x * g;
   }
   static constexpr bool usual(T, T bus) noexcept { return bus > T{}; }
   template <class... V>
@@ -238,7 +227,7 @@ class current_loop {
   template <bool Careful>
   current_loop_output<T> run(const current_loop_input<T>& in) noexcept {
     using access = detail::pi_internals;
-    const T r = recipe::times(in.bus_voltage, radius_);
+    const T r = in.bus_voltage * radius_;
     if constexpr (Careful) {
       if (!valid(in)) return faulted();
     } else if (!recipe::usual(r, in.bus_voltage)) {
@@ -252,8 +241,8 @@ class current_loop {
     const rotating<T> current = park(clarke(in.current), in.rotor);
     const T id = current.d, iq = current.q, w = in.speed;
 
-    const T feed_d = -recipe::times(w * iq, lq_);
-    const T feed_q = recipe::times(w * id, ld_) + recipe::times(w, flux_);
+    const T feed_d = -((w * iq) * lq_);
+    const T feed_q = (w * id) * ld_ + w * flux_;
     const pi_proposal<T> pd = Careful ? d_.propose_from(in.setpoint.d, id, feed_d)
                                       : access::propose(d_, in.setpoint.d, id, feed_d);
     const pi_proposal<T> pq = Careful ? q_.propose_from(in.setpoint.q, iq, feed_q)

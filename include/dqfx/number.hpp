@@ -175,6 +175,11 @@ class gain<T, std::enable_if_t<is_fixed_v<T>>> {
 
   /// x * g rounded to nearest once and saturated once.
   friend constexpr T operator*(T x, gain g) noexcept {
+    if constexpr (T::fraction_bits == 15) {
+      // q15 and a constant below 2^13: the same value as one rounded 16x32 product (no
+      // 64-bit shift by a variable amount; 16x16 products on ARMv6-M).
+      if (g.shift_ <= 13) return T::saturated(detail::rounded_product16(x.raw(), g.mantissa_, 31 - g.shift_));
+    }
     // |raw| <= 2^31 and |m| <= 2^31: the product fits in 63 bits for q15 and q31.
     const std::int64_t p = std::int64_t{x.raw()} * std::int64_t{g.mantissa_};
     return T::saturated(detail::round_shift(p, 31 - g.shift_));

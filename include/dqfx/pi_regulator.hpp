@@ -111,33 +111,6 @@ template <class T, class> struct pi_arith {
   }
 };
 
-/// floor((d * m + 2^(shift-1)) / 2^shift), the product of a 17-bit d (|d| < 2^16) and a
-/// 32-bit m rounded at 18 <= shift <= 31, exactly and without a 64-bit shift by a
-/// variable amount: the high word of (d * 2^15) * m is floor(d*m / 2^17).
-constexpr std::int32_t rounded_product16_wide(std::int32_t d, std::int32_t m, int shift) noexcept {
-  const auto top = static_cast<std::int32_t>((static_cast<std::int64_t>(d * 32768) * m) >> 32);
-  return (top + (1 << (shift - 18))) >> (shift - 17);
-}
-
-/// The same value from three 16x16 products, for cores without a 32x32->64 multiply.
-/// m = high*2^16 + mid*2^8 + low (high signed, mid and low in [0, 256)): every partial
-/// product fits in 32 bits, and d*m = v*2^16 + r with 0 <= r < 2^16.
-constexpr std::int32_t rounded_product16_narrow(std::int32_t d, std::int32_t m, int shift) noexcept {
-  const std::int32_t high = m >> 16, mid = (m >> 8) & 0xFF, low = m & 0xFF;
-  const std::int32_t u = d * mid + ((d * low) >> 8);
-  const std::int32_t v = d * high + (u >> 8);
-  return (v + (1 << (shift - 17))) >> (shift - 16);
-}
-
-/// The rounded 16x32 product: ARMv6-M has no 32x32->64 multiply (a library call there).
-constexpr std::int32_t rounded_product16(std::int32_t d, std::int32_t m, int shift) noexcept {
-#if defined(__ARM_ARCH_6M__)
-  return rounded_product16_narrow(d, m, shift);
-#else
-  return rounded_product16_wide(d, m, shift);
-#endif
-}
-
 /// Fixed-point state per type: q15 a 32-bit integer in units of 2^-25 (10 bits below one
 /// q15 LSB) within +/-16, so that sums of three terms never overflow 32 bits and the
 /// whole regulator runs in 32-bit arithmetic; q31 a 64-bit integer in units of 2^-31
