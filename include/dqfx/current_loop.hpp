@@ -2,8 +2,8 @@
 #pragma once
 /// \file
 /// The field-oriented current loop, one call per PWM period, for q15, q31, float and
-/// double (one code path; per-type recipes only for the limit's square root, the checks
-/// and q15's products with the loop's constants).
+/// double (one code path; per-type recipes only for the limit's square root and the
+/// checks).
 ///
 ///   phase currents --Clarke--> alpha/beta --Park--> id, iq
 ///   ed = id* - id, eq = iq* - iq
@@ -200,7 +200,6 @@ class current_loop {
   /// limited, one integer square root per call.
   current_loop_output<T> step(const current_loop_input<T>& in) noexcept { return run<false>(in); }
 
-  /// Clears both integrators (e.g. before enabling the bridge).
   /// Clears both integrators (e.g. before enabling the bridge).
   constexpr void reset() noexcept {
     d_.reset();

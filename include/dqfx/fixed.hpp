@@ -76,6 +76,32 @@ constexpr std::int32_t rounded_product16(std::int32_t d, std::int32_t m, int shi
 #endif
 }
 
+/// floor(a * b / 2^32): the high word of one 32x32->64 product.
+constexpr std::uint32_t multiply_high_wide(std::uint32_t a, std::uint32_t b) noexcept {
+  return static_cast<std::uint32_t>((static_cast<std::uint64_t>(a) * b) >> 32);
+}
+
+/// The same value from four 16x16 products, for cores without a 32x32->64 multiply.
+constexpr std::uint32_t multiply_high_narrow(std::uint32_t a, std::uint32_t b) noexcept {
+  const std::uint32_t al = a & 0xFFFFu, ah = a >> 16, bl = b & 0xFFFFu, bh = b >> 16;
+  const std::uint32_t high_low = ah * bl;
+  // At most 2^32 - 1: (2^16 - 1)^2 + 2 (2^16 - 1).
+  const std::uint32_t cross = ((al * bl) >> 16) + (high_low & 0xFFFFu) + al * bh;
+  return ah * bh + (high_low >> 16) + (cross >> 16);
+}
+
+/// ARMv6-M has no 32x32->64 multiply (a library call there).
+constexpr std::uint32_t multiply_high(std::uint32_t a, std::uint32_t b) noexcept {
+#if defined(__ARM_ARCH_6M__)
+  return multiply_high_narrow(a, b);
+#else
+  return multiply_high_wide(a, b);
+#endif
+}
+
+/// Leading zero bits of n (32 for n = 0).
+constexpr int leading_zeros(std::uint32_t n) noexcept { return n == 0 ? 32 : __builtin_clz(n); }
+
 #if defined(__ARM_FEATURE_DSP) && defined(__GNUC__)
 inline std::int32_t smmulr(std::int32_t a, std::int32_t b) noexcept {
   std::int32_t r = 0;

@@ -14,9 +14,8 @@
 /// q15 32-bit integers in units of 2^-25 with a range of +/-16 (the whole regulator in
 /// 32-bit arithmetic), q31 64-bit integers in units of 2^-31 with a range of +/-256. So
 /// a q15 integrator still moves when ki*e is far below one q15 LSB (down to 2^-11 LSB per
-/// sample), and a proportional term of 3
-/// against an integrator of -2.5 gives 0.5, not a clipped 1 - 2.5. Only the output is
-/// rounded (once) to T.
+/// sample), and a proportional term of 3 against an integrator of -2.5 gives 0.5, not a
+/// clipped 1 - 2.5. Only the output is rounded (once) to T.
 ///
 /// Anti-windup is a compile-time policy tag:
 ///   - `conditional_integration`: the integrator holds while the output is limited and

@@ -151,29 +151,6 @@ template <class T> struct modulation_divisor : divisor<T> {
   using divisor<T>::divisor;
 };
 
-/// floor(a * b / 2^32): the high word of one 32x32->64 product.
-constexpr std::uint32_t multiply_high_wide(std::uint32_t a, std::uint32_t b) noexcept {
-  return static_cast<std::uint32_t>((static_cast<std::uint64_t>(a) * b) >> 32);
-}
-
-/// The same value from four 16x16 products, for cores without a 32x32->64 multiply.
-constexpr std::uint32_t multiply_high_narrow(std::uint32_t a, std::uint32_t b) noexcept {
-  const std::uint32_t al = a & 0xFFFFu, ah = a >> 16, bl = b & 0xFFFFu, bh = b >> 16;
-  const std::uint32_t high_low = ah * bl;
-  // At most 2^32 - 1: (2^16 - 1)^2 + 2 (2^16 - 1).
-  const std::uint32_t cross = ((al * bl) >> 16) + (high_low & 0xFFFFu) + al * bh;
-  return ah * bh + (high_low >> 16) + (cross >> 16);
-}
-
-/// ARMv6-M has no 32x32->64 multiply (a library call there).
-constexpr std::uint32_t multiply_high(std::uint32_t a, std::uint32_t b) noexcept {
-#if defined(__ARM_ARCH_6M__)
-  return multiply_high_narrow(a, b);
-#else
-  return multiply_high_wide(a, b);
-#endif
-}
-
 /// q15: a 32-bit reciprocal of den (normalised to d in [2^31, 2^32)), seeded by one
 /// 32-bit division and refined by one Newton step (within 2^-29 relative), and each
 /// quotient one 32x32->64 product: within 2^-29 of num/den, truncated to the extended
@@ -187,7 +164,7 @@ template <> class modulation_divisor<q15> {
       den_ = 0;
       return;
     }
-    shift_ = leading_zeros(den_);  // >= 1: den < 2^31
+    shift_ = detail::leading_zeros(den_);  // >= 1: den < 2^31
     const std::uint32_t d = den_ << shift_;
     // r ~ 2^63 / d: 2^48 / d from the top 16 bits (relative error below 2^-15), then
     // r += r * (2^63 - d r) / 2^63 with the error term kept at 2^-43.
@@ -209,8 +186,6 @@ template <> class modulation_divisor<q15> {
   }
 
  private:
-  static constexpr int leading_zeros(std::uint32_t n) noexcept { return __builtin_clz(n); }
-
   std::uint32_t den_;
   int shift_ = 0;
   std::uint32_t reciprocal_ = 0;

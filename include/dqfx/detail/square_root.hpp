@@ -7,6 +7,8 @@
 #include <array>
 #include <cstdint>
 
+#include "dqfx/fixed.hpp"  // leading_zeros
+
 namespace dqfx::detail {
 
 /// floor(sqrt(n)) digit by digit: a fixed number of iterations, no division, no table.
@@ -36,8 +38,6 @@ constexpr std::array<std::uint16_t, 192> make_sqrt_seeds() noexcept {
   return t;
 }
 inline constexpr std::array<std::uint16_t, 192> sqrt_seeds = make_sqrt_seeds();
-
-constexpr int leading_zeros(std::uint32_t n) noexcept { return n == 0 ? 32 : __builtin_clz(n); }
 
 /// floor(sqrt(n)) for 32-bit n: a table seed good to 2^-8, one integer Newton step (one
 /// divide) and one correction. Integer Newton from any positive start never lands below
