@@ -7,7 +7,7 @@ cd "$(dirname "$0")/.."
 
 # Packages the demo needs, then the extra ones the full test suite needs.
 demo_packages="g++ cmake ninja-build gnuplot-nox"
-test_packages="$demo_packages doctest-dev libbenchmark-dev clang libmpfr-dev libboost-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm clang-tidy cppcheck"
+test_packages="$demo_packages doctest-dev libbenchmark-dev clang libclang-rt-14-dev libmpfr-dev libboost-dev gcc-arm-none-eabi libnewlib-arm-none-eabi libstdc++-arm-none-eabi-newlib qemu-system-arm clang-tidy cppcheck"
 
 install_missing() {
   missing=""
