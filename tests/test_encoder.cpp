@@ -285,3 +285,228 @@ TEST_CASE_TEMPLATE("encoder: on the simulator's counter (dqfx::sim), 16-bit time
   CHECK(worst <= 360.0 * pole_pairs / cpt + 1e-6);
   CHECK(worst_speed < 2e-3);
 }
+
+// ---------------------------------------------------------------------------------------
+// Glitches, lost position, index pulse and stuck counter, on a second invented drive: a
+// 10,000-count encoder, 7 pole pairs, sampled at 12 kHz, speed 1.0 = 500 Hz electrical, so
+// max_speed 1.0 moves 59.5 counts per sample (largest accepted step 60).
+namespace {
+
+constexpr std::uint32_t fast_cpt = 10000;
+constexpr double fast_ts = 1.0 / 12000;
+constexpr double fast_counts_per_pu = 500.0 / 7 * fast_cpt * fast_ts;  // counts per sample at 1.0 pu
+
+dqfx::encoder_parameters fast_drive(std::uint32_t period) {
+  dqfx::encoder_parameters p{};
+  p.counts_per_turn = fast_cpt;
+  p.pole_pairs = 7;
+  p.counter_period = period;
+  p.base_speed = two_pi * 500;
+  p.sample_time = fast_ts;
+  p.max_speed = 1.0;
+  return p;
+}
+
+// A shaft at constant speed (counts per sample), exact in counts: count(k) = floor(start + v k).
+struct steady {
+  double start = 12345.25;
+  double per_sample = 0.0;
+  std::int64_t count(std::int64_t k) const {
+    return static_cast<std::int64_t>(std::floor(start + per_sample * static_cast<double>(k)));
+  }
+};
+
+}  // namespace
+
+TEST_CASE_TEMPLATE("encoder: a glitch of n samples costs exactly n samples at any speed up to max_speed", T, q15, q31,
+                   float, double) {
+  for (std::uint32_t period : {65536u, 0u}) {
+    for (double fraction : {0.1, 0.5, 0.9, 1.0, -0.1, -0.5, -0.9, -1.0}) {
+      for (int length : {1, 2, 10}) {
+        for (std::int64_t size : {100, 3000, -3000, 20000, -20000}) {
+          const steady s{12345.25, fraction * fast_counts_per_pu};
+          // Each glitched reading must lie outside max_speed's reach, or it is motion.
+          bool detectable = true;
+          for (int i = 1; i <= length; ++i) {
+            const double travel = s.per_sample * i + static_cast<double>(size);
+            detectable = detectable && std::fabs(travel) > 60.0 * i + 1;
+          }
+          if (!detectable) continue;
+          dqfx::encoder<T> e{fast_drive(period)};
+          REQUIRE(e.max_step() == 60);
+          const std::uint32_t first = counter_of(s.count(0), period) % fast_cpt;
+          int rejected = 0;
+          double worst_speed = 0;
+          for (int k = 0; k < 3000; ++k) {
+            const bool glitched = k >= 1000 && k < 1000 + length;
+            const std::int64_t count = s.count(k) + (glitched ? size : 0);
+            const dqfx::angle held = e.electrical_angle();
+            e.update(counter_of(count, period));
+            REQUIRE_FALSE(e.lost());
+            if (glitched) {
+              ++rejected;
+              REQUIRE(e.jump());
+              REQUIRE(e.state() == dqfx::encoder_state::holding);
+              REQUIRE(e.electrical_angle() == held);
+              continue;
+            }
+            REQUIRE_FALSE(e.jump());
+            const std::int64_t travelled = s.count(k) - s.count(0);
+            REQUIRE(e.position() == ((first + travelled) % fast_cpt + fast_cpt) % fast_cpt);
+            // Counting speed: within one count per window of the truth, glitch or not.
+            if (k > 20) worst_speed = std::fmax(worst_speed, std::fabs(to_double(e.raw_speed()) - fraction));
+          }
+          CHECK(rejected == length);
+          CHECK(e.fault());
+          const double count_resolution = 1.0 / (16 * fast_counts_per_pu) + 2 * lsb<T>() + 1e-6;
+          INFO(name<T>(), " period ", period, " speed ", fraction, " glitch ", size, " x ", length);
+          CHECK(worst_speed <= count_resolution);
+        }
+      }
+    }
+  }
+}
+
+TEST_CASE_TEMPLATE("encoder: after max_rejected readings in a row the position is lost and never resumes by itself",
+                   T, q15, q31, float, double) {
+  for (std::uint32_t period : {65536u, 0u}) {
+    dqfx::encoder_parameters p = fast_drive(period);
+    p.max_rejected = 20;
+    p.index_position = 2500;
+    dqfx::encoder<T> e{p};
+    CHECK(e.max_missed() == 20);
+    const steady s{777.5, 0.7 * fast_counts_per_pu};
+    int k = 0;
+    for (; k < 500; ++k) e.update(counter_of(s.count(k), period));
+    const dqfx::angle held = e.electrical_angle();
+    const T speed = e.speed();
+    // The counter goes wrong by 20000 counts for good (say, a real jump).
+    for (int n = 0; n < 20; ++n, ++k) {
+      REQUIRE_FALSE(e.lost());
+      e.update(counter_of(s.count(k) + 20000, period));
+      CHECK(e.jump());
+    }
+    CHECK(e.lost());
+    CHECK(e.state() == dqfx::encoder_state::lost);
+    CHECK(e.fault());
+    // Lost: no reading is taken, not the right ones, not across any number of counter wraps.
+    for (int n = 0; n < 40000; ++n, ++k) {
+      e.update(counter_of(s.count(k) + (n % 2 ? 20000 : 0), period));
+      REQUIRE(e.lost());
+      REQUIRE(e.electrical_angle() == held);
+      REQUIRE(e.speed() == speed);
+    }
+    e.clear_faults();
+    CHECK(e.lost());  // only a reference ends it
+    // The index pulse: the counter latched at the true position 2500 (mod turn) of the shaft.
+    const std::int64_t at = s.count(k);
+    const std::int64_t to_index = (((2500 - at) % fast_cpt) + fast_cpt) % fast_cpt;
+    e.index(counter_of(at + to_index - static_cast<std::int64_t>(fast_cpt), period));
+    CHECK_FALSE(e.lost());
+    CHECK(e.referenced());
+    CHECK(e.position() == 2500);
+    // Tracking again from the index (the latch was less than a turn behind: take the next
+    // sample within reach of it instead).
+    e.restart();
+    CHECK(e.state() == dqfx::encoder_state::waiting);
+    e.update(counter_of(s.count(k), period));
+    CHECK(e.state() == dqfx::encoder_state::tracking);
+    CHECK(e.position() == counter_of(s.count(k), period) % fast_cpt);
+  }
+  // Where half a turn is near, fewer rejections are allowed: 1000 counts per turn at 59.5
+  // counts per sample reach half a turn (500) after 8 samples of window.
+  dqfx::encoder_parameters p = fast_drive(65536);
+  p.counts_per_turn = 1000;
+  dqfx::encoder<T> small{p};
+  CHECK(small.max_step() == 6);
+  CHECK(small.max_missed() == 32);
+  p.max_speed = 10.0;  // 59.5 counts per sample: a window of 60 reaches 499 in 8 samples
+  dqfx::encoder<T> fast{p};
+  CHECK(fast.max_step() == 60);
+  CHECK(fast.max_missed() == 8);
+}
+
+TEST_CASE_TEMPLATE("encoder: the index pulse re-references the position and finds lost counts", T, q15, q31, float,
+                   double) {
+  for (double fraction : {0.3, -0.8}) {
+    dqfx::encoder_parameters p = fast_drive(65536);
+    p.index_position = 1234;
+    dqfx::encoder<T> e{p};
+    const steady s{50.5, fraction * fast_counts_per_pu};
+    const auto turn = static_cast<std::int64_t>(fast_cpt);
+    std::int64_t missed = 0;  // counts the counter missed (an electrical disturbance)
+    int pulses = 0, errors = 0;
+    bool error_due = false;
+    for (int k = 0; k < 20000; ++k) {
+      if (k == 9000) missed = -7, error_due = true;  // small enough to look like motion
+      e.update(counter_of(s.count(k) + missed, 65536));
+      REQUIRE_FALSE(e.jump());
+      // The index at true counts 1234 (mod turn), crossed between samples k-1 and k.
+      const std::int64_t a = s.count(k - 1), b = s.count(k);
+      const std::int64_t lo = std::min(a, b);
+      const std::int64_t mark = lo + (((1234 - lo) % turn) + turn) % turn;
+      const bool crossed = a < b ? (mark > a && mark <= b) : (mark >= b && mark < a);
+      if (k > 0 && crossed) {
+        ++pulses;
+        e.index(counter_of(mark + missed, 65536));
+        CHECK(e.count_error() == error_due);
+        if (e.count_error()) ++errors;
+        error_due = false;
+        e.clear_faults();
+      }
+      // From the first pulse on, the position is the shaft's, index-referenced, except for
+      // the missed counts until the next pulse finds them.
+      if (pulses > 0) {
+        const std::int64_t off = error_due ? missed : 0;
+        REQUIRE(e.position() == (((s.count(k) + off) % turn) + turn) % turn);
+      }
+    }
+    CHECK(pulses > 20);
+    CHECK(errors == 1);
+  }
+}
+
+TEST_CASE_TEMPLATE("encoder: a counter stuck at speed is flagged within four counts of travel", T, q15, q31, float,
+                   double) {
+  dqfx::encoder_parameters p = fast_drive(65536);
+  p.max_acceleration = 20.0;  // per unit per second: 1.0 pu to standstill in 50 ms at the most
+  const double d = 20.0 * fast_ts * fast_counts_per_pu;  // counts per sample, per sample
+  for (double fraction : {0.01, 0.05, 0.1, 0.5, 1.0, -0.3}) {
+    dqfx::encoder<T> e{p};
+    const steady s{99.5, fraction * fast_counts_per_pu};
+    int k = 0;
+    for (; k < 200; ++k) e.update(counter_of(s.count(k), 65536));
+    REQUIRE_FALSE(e.stuck());
+    const std::int64_t frozen = s.count(k - 1);
+    int flagged_after = 0;
+    for (int n = 1; n <= 200 && !e.lost(); ++n, ++k) {
+      e.update(counter_of(frozen, 65536));
+      flagged_after = n;
+    }
+    // The documented rule: r = (window counts - d W^2 / 2 - 2) / W counts per sample, at
+    // least 2 sqrt(d); flagged once the quiet samples reach 4 / r.
+    const double r = (std::fabs(s.per_sample) * 16 - d * 128 - 2) / 16;
+    MESSAGE(name<T>(), " at ", fraction, " pu: stuck after ", flagged_after, " samples");
+    if (r >= 2 * std::sqrt(d) + 1.0 / 16) {
+      CHECK(e.stuck());
+      CHECK(e.lost());
+      CHECK(flagged_after <= static_cast<int>(std::ceil(4 / r)) + 1);
+    } else {
+      CHECK_FALSE(e.stuck());
+    }
+  }
+  // Braking at max_acceleration from 1.0 pu to standstill and back: never stuck.
+  for (double scale : {1.0, 0.999}) {
+    dqfx::encoder<T> e{p};
+    const double v0 = fast_counts_per_pu;
+    const double brake = d * scale;
+    // Full speed for 500 samples, then braking through standstill to full speed backwards.
+    for (int k = 0; k < 500 + static_cast<int>(2 * v0 / brake); ++k) {
+      const double t = k;
+      const double x = t < 500 ? v0 * t : v0 * 500 + v0 * (t - 500) - brake * (t - 500) * (t - 500) / 2;
+      e.update(counter_of(static_cast<std::int64_t>(std::floor(1000.5 + x)), 65536));
+      REQUIRE_FALSE(e.stuck());
+      REQUIRE_FALSE(e.jump());
+    }
+  }
+}

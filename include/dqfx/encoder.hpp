@@ -23,11 +23,21 @@
 /// Timing is used below `switch_speed`, counting above 1.25 * `switch_speed` (hysteresis),
 /// then a first-order low-pass filter (`filter_bandwidth`, rad/s; 0 for none).
 ///
-/// Bad input: a step larger than `max_speed` allows in one sample (plus one count), or a
-/// reading beyond the counter's period, raises `jump()` for that sample and the sticky
-/// `fault()`; angle and speed hold their last good values and the reading is ignored (the
-/// next reading is compared with the last good one, so a one-sample glitch costs one
-/// sample). A counter that really jumped keeps faulting until `restart()`. A design outside
+/// Bad input: a reading beyond the counter's period, or one farther from the last good
+/// reading than `max_speed` can travel in the samples since it (plus one count), is
+/// rejected: `jump()` for that sample, the sticky `fault()`, angle and speed hold. The
+/// window grows with each rejected sample, so a glitch of n samples costs exactly n samples
+/// at any speed up to `max_speed` (a glitch small enough to lie inside the window looks
+/// like motion and is taken; the index check below finds what it leaves behind). After
+/// `max_rejected` rejections in a row, or sooner when the window would reach half a turn or
+/// half the counter's period (where the turn count becomes ambiguous), the encoder is
+/// `lost()`: it ignores readings until a reference comes back, by an index pulse (`index()`)
+/// or an explicit re-alignment (`restart()`), and never resumes by itself. With
+/// `max_acceleration` set, a counter that stops while the shaft turns (no count for 4 counts
+/// of travel at the last speed) is `stuck()` and lost too. A drive whose encoder is lost has
+/// no angle: stop producing torque (or hand over to a sensorless estimator) until it is
+/// referenced again. An index pulse re-references the position to `index_position` and
+/// checks the count every turn (`count_error()` beyond `index_tolerance`). A design outside
 /// the rules of `parameter_fault()` (among them the estimators' shared speed-scale rule:
 /// the base speed moves 2^-32 turn to half a turn per sample) raises it, is a compile-time
 /// error for a constexpr encoder, and gives an encoder that ignores every reading
@@ -57,10 +67,22 @@ struct encoder_parameters {
   double switch_speed = 0.05;     ///< per unit: timing between edges below, counting above
   double filter_bandwidth = 0.0;  ///< rad/s of the first-order speed filter; 0: none
   double max_speed = 1.0;         ///< per unit: faster steps are jumps
+  /// Rejected readings in a row after which the position is lost (1..65535).
+  std::uint32_t max_rejected = 32;
+  /// Per unit speed per second: the fastest the shaft's speed can change (peak torque over
+  /// inertia, with margin). 0: no stuck-counter check.
+  double max_acceleration = 0.0;
+  std::uint32_t index_position = 0;  ///< position (counts) the index pulse stands for
+  std::uint32_t index_tolerance = 2;  ///< counts the index may land off before `count_error()`
 };
 
 /// Which speed method produced the latest raw speed.
 enum class encoder_speed_method : std::uint8_t { timing, counting };
+
+/// waiting: no reading yet (or after `restart()`); tracking: the latest reading was taken;
+/// holding: readings rejected, estimate held, still able to resume; lost: the position is
+/// unknown until `index()` or `restart()`.
+enum class encoder_state : std::uint8_t { waiting, tracking, holding, lost };
 
 namespace detail {
 // Deliberately not constexpr: reaching it in a constexpr encoder stops compilation.
@@ -100,7 +122,10 @@ class encoder {
                        p.counter_period != 1 && p.sample_time > 0.0 && p.base_speed > 0.0 &&
                        detail::speed_scale_valid(p.base_speed, p.sample_time) &&
                        detail::tick_frequency_valid(p.tick_frequency, p.sample_time) && p.max_speed > 0.0 &&
-                       steps < half_period && steps < half_turn && !(p.filter_bandwidth < 0.0);
+                       steps < half_period && steps < half_turn && !(p.filter_bandwidth < 0.0) &&
+                       p.max_rejected >= 1 && p.max_rejected <= 65535 && p.max_acceleration >= 0.0 &&
+                       p.max_acceleration < 1e30 && p.index_position < p.counts_per_turn &&
+                       p.index_tolerance < p.counts_per_turn / 2;
     if (!valid) {
       detail::encoder_parameters_out_of_range();
       parameter_fault_ = true;
@@ -108,13 +133,28 @@ class encoder {
       return;
     }
     max_step_ = static_cast<std::uint32_t>(steps);
+    index_position_ = p.index_position;
+    index_tolerance_ = p.index_tolerance;
+    // The window after n rejections, (n + 1) * max_step, must stay below half a turn and
+    // half the counter's period, or a reading could be taken a turn or a wrap away.
+    const double limit = half_period < half_turn ? half_period : half_turn;
+    const double reachable = (limit - 1.0) / static_cast<double>(max_step_);  // samples
+    max_missed_ = reachable < static_cast<double>(p.max_rejected) ? static_cast<std::uint32_t>(reachable)
+                                                                   : p.max_rejected;
+    // Stuck counter: per sample, the speed changes by at most `d` counts per sample.
+    const double d = p.max_acceleration * p.sample_time * (steps - 1.0) / p.max_speed;
+    const double w = static_cast<double>(Window);
+    if (p.max_acceleration > 0.0 && d * w * w < 1e9) {
+      stuck_slack_ = static_cast<std::uint32_t>(d * w * w / 2.0) + 2u;
+      stuck_min_ = stuck_slack_ + static_cast<std::uint32_t>(2.0 * root(d) * w) + 1u;
+    }
   }
 
   /// One sample, edges timed by the sample clock (each counter change is taken to happen
   /// at the sample instant).
   constexpr void update(std::uint32_t count) noexcept {
     sample_clock_ += ticks_per_sample_;
-    const bool moved = started_ && count != last_count_;
+    const bool moved = state_ != encoder_state::waiting && count != last_count_;
     update(count, moved ? sample_clock_ : last_edge_ticks_, sample_clock_);
   }
 
@@ -122,26 +162,53 @@ class encoder {
   /// latest counter change, `now_ticks` the timer value now (both wrap at 2^32).
   constexpr void update(std::uint32_t count, std::uint32_t edge_ticks, std::uint32_t now_ticks) noexcept {
     jump_ = false;
-    if (parameter_fault_) return;
+    if (parameter_fault_ || state_ == encoder_state::lost) return;
     if (period_ != 0 && count >= period_) return reject();
-    if (!started_) return start(count, edge_ticks);
+    if (state_ == encoder_state::waiting) return start(count, edge_ticks, count % cpt_);
     const std::int64_t step = wrapped_step(count);
-    if (detail::magnitude_u64(step) > max_step_) return reject();
+    if (detail::magnitude_u64(step) > std::uint64_t{max_step_} * (missed_ + 1u)) return reject();
     last_count_ = count;
     move(step);
+    if (missed_ > 0) spread_over_missed(step);
     measure_counting();
     measure_timing(step, edge_ticks, now_ticks);
     select();
     speed_ = filter_.step(raw_speed_);
+    missed_ = 0;
+    state_ = encoder_state::tracking;
+    watch_for_stuck(step);
   }
 
-  /// Forgets the counter reference (after a jump that was real, or a re-homing): the next
-  /// reading starts again as on power-up. Faults are kept until `clear_faults()`.
+  /// The index (Z) pulse: `latched` is the counter's value captured at the pulse. While
+  /// tracking, the position there must be `index_position` within `index_tolerance` from
+  /// the second pulse on (else `count_error()`); either way the position is re-referenced
+  /// to it. Holding, lost or waiting, the pulse becomes the reference and tracking starts
+  /// from it. Call it once per pulse, within a sample of the latch.
+  constexpr void index(std::uint32_t latched) noexcept {
+    if (parameter_fault_ || (period_ != 0 && latched >= period_)) return;
+    const std::int64_t step = wrapped_step(latched);
+    if (state_ != encoder_state::tracking || detail::magnitude_u64(step) > max_step_) {
+      start(latched, last_edge_ticks_, index_position_);
+      referenced_ = true;
+      return;
+    }
+    const std::int64_t seen = wrap_turn(std::int64_t{position_} + step);
+    std::int64_t off = seen - std::int64_t{index_position_};  // in (-cpt, cpt)
+    if (2 * off >= std::int64_t{cpt_}) off -= cpt_;
+    if (2 * off < -std::int64_t{cpt_}) off += cpt_;
+    if (referenced_ && detail::magnitude_u64(off) > index_tolerance_) count_error_ = fault_ = true;
+    referenced_ = true;
+    position_ = static_cast<std::uint32_t>(wrap_turn(std::int64_t{position_} - off));
+    move(0);
+  }
+
+  /// Forgets the counter reference (after a jump that was real, a lost position, or a
+  /// re-homing): the next reading starts again as on power-up, so the offset must be found
+  /// again (re-alignment). Faults are kept until `clear_faults()`.
   constexpr void restart() noexcept {
-    started_ = false;
-    edges_ = 0;
-    filled_ = 0;
-    head_ = 0;
+    state_ = encoder_state::waiting;
+    referenced_ = false;
+    missed_ = 0;
   }
 
   constexpr angle mechanical() const noexcept { return mechanical_; }
@@ -155,9 +222,20 @@ class encoder {
   constexpr std::uint32_t position() const noexcept { return position_; }
   /// The latest reading was rejected (impossible step or out of the counter's range).
   constexpr bool jump() const noexcept { return jump_; }
-  /// Sticky: a reading was rejected since the last `clear_faults()`.
+  /// Sticky: a reading was rejected, the index found a count error, or the position was
+  /// lost, since the last `clear_faults()`.
   constexpr bool fault() const noexcept { return fault_; }
-  constexpr void clear_faults() noexcept { fault_ = false; }
+  constexpr encoder_state state() const noexcept { return state_; }
+  /// The position is unknown (too many rejected readings, or a stuck counter): readings are
+  /// ignored until `index()` or `restart()`.
+  constexpr bool lost() const noexcept { return state_ == encoder_state::lost; }
+  /// Sticky: the counter stood still while the shaft, by `max_acceleration`, had to turn.
+  constexpr bool stuck() const noexcept { return stuck_; }
+  /// Sticky: an index pulse found the position off by more than `index_tolerance`.
+  constexpr bool count_error() const noexcept { return count_error_; }
+  /// An index pulse has set the position since the start or the last `restart()`.
+  constexpr bool referenced() const noexcept { return referenced_; }
+  constexpr void clear_faults() noexcept { fault_ = stuck_ = count_error_ = false; }
   /// Counts per turn outside 4..2^30, zero pole pairs, non-positive times or speeds, a base
   /// speed that moves less than 2^-32 turn or at least half a turn per sample, a tick
   /// frequency that is negative, not a number or 2^32 ticks per sample or more, or a
@@ -165,12 +243,21 @@ class encoder {
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
   /// The largest step per sample accepted, in counts.
   constexpr std::uint32_t max_step() const noexcept { return max_step_; }
+  /// Rejected readings in a row after which the position is lost: `max_rejected`, or fewer
+  /// where the window would reach half a turn or half the counter's period.
+  constexpr std::uint32_t max_missed() const noexcept { return max_missed_; }
 
  private:
   /// Timer ticks per sample for `update(count)`: 1 without a capture timer.
   static constexpr std::uint32_t ticks_per_sample(const encoder_parameters& p) noexcept {
     const double t = p.tick_frequency * p.sample_time;
     return t >= 1.0 && t < 4294967295.0 ? static_cast<std::uint32_t>(detail::round_half_away(t)) : 1u;
+  }
+  /// sqrt(x) for 0 <= x < 1e9 by Newton's method from above (constexpr; design time only).
+  static constexpr double root(double x) noexcept {
+    double r = x > 1.0 ? x : 1.0;
+    for (int i = 0; i < 64; ++i) r = 0.5 * (r + x / r);
+    return r;
   }
   static constexpr double speed_per_count(const encoder_parameters& p) noexcept {
     // Electrical per-unit speed of one count per second.
@@ -181,19 +268,64 @@ class encoder {
   constexpr void reject() noexcept {
     jump_ = true;
     fault_ = true;
+    if (state_ == encoder_state::waiting) return;
+    if (++missed_ >= max_missed_) {
+      state_ = encoder_state::lost;
+      return;
+    }
+    state_ = encoder_state::holding;
     // Keep the window's time base: this sample moved nothing we believe; the next good
-    // reading brings the counts.
-    if (started_) {
-      const T held = counting_speed_;
-      measure_counting();
-      counting_speed_ = held;
+    // reading brings the counts (`spread_over_missed`).
+    const T held = counting_speed_;
+    measure_counting();
+    counting_speed_ = held;
+  }
+
+  /// The good reading after `missed_` rejected ones moved `step` in missed_ + 1 samples:
+  /// the window entries of the rejected samples get their share, so the counting speed
+  /// does not read one sample's travel high when they leave the window.
+  constexpr void spread_over_missed(std::int64_t step) noexcept {
+    const std::uint32_t before = total_ - static_cast<std::uint32_t>(static_cast<std::uint64_t>(step) & 0xFFFFFFFFu);
+    const std::uint32_t n = missed_ < Window ? missed_ : static_cast<std::uint32_t>(Window - 1);
+    for (std::uint32_t j = 1; j <= n; ++j) {
+      const std::int64_t share = step * std::int64_t{missed_ + 1u - j} / std::int64_t{missed_ + 1u};
+      const std::size_t at = (head_ + Window - j) % Window;
+      history_[at] = before + static_cast<std::uint32_t>(static_cast<std::uint64_t>(share) & 0xFFFFFFFFu);
     }
   }
 
-  constexpr void start(std::uint32_t count, std::uint32_t edge_ticks) noexcept {
-    started_ = true;
+  /// With `max_acceleration` set: the counts of the window at the last edge, less what
+  /// braking could have taken off since the window's middle, give the slowest the shaft
+  /// can turn now (r counts per sample, with r^2 >= 4 * max change per sample, so it cannot
+  /// stop within 2 counts); no count for 4 counts of travel at r means the counter is stuck.
+  constexpr void watch_for_stuck(std::int64_t step) noexcept {
+    if (stuck_min_ == 0) return;
+    if (step != 0) {
+      quiet_ = 0;
+      edge_counts_ = counted_ ? window_counts_ : 0;
+      return;
+    }
+    if (quiet_ < 0xFFFF) ++quiet_;
+    if (edge_counts_ < stuck_min_) return;
+    if (std::uint64_t{quiet_} * (edge_counts_ - stuck_slack_) >= 4u * Window) {
+      stuck_ = fault_ = true;
+      state_ = encoder_state::lost;
+    }
+  }
+
+  /// pos modulo counts_per_turn, in [0, counts_per_turn).
+  constexpr std::int64_t wrap_turn(std::int64_t pos) const noexcept {
+    const std::int64_t c = cpt_;
+    return ((pos % c) + c) % c;
+  }
+
+  constexpr void start(std::uint32_t count, std::uint32_t edge_ticks, std::uint32_t position) noexcept {
+    state_ = encoder_state::tracking;
+    missed_ = 0;
+    quiet_ = 0;
+    edge_counts_ = 0;
     last_count_ = count;
-    position_ = count % cpt_;
+    position_ = position;
     move(0);
     last_edge_ticks_ = edge_ticks;
     edges_ = 0;
@@ -233,7 +365,9 @@ class encoder {
       return;
     }
     counted_ = true;
-    counting_speed_ = counting_.times(static_cast<std::int32_t>(signed_of(total_ - oldest)));
+    const std::int64_t counts = signed_of(total_ - oldest);
+    window_counts_ = static_cast<std::uint32_t>(detail::magnitude_u64(counts));
+    counting_speed_ = counting_.times(static_cast<std::int32_t>(counts));
   }
 
   constexpr void measure_timing(std::int64_t step, std::uint32_t edge_ticks, std::uint32_t now_ticks) noexcept {
@@ -291,8 +425,20 @@ class encoder {
   T switch_high_{};
   detail::low_pass<T> filter_{};
   std::uint32_t max_step_ = 0;
+  std::uint32_t max_missed_ = 1;
+  std::uint32_t stuck_min_ = 0;    // window counts at the last edge from which stuck is checked; 0: off
+  std::uint32_t stuck_slack_ = 0;  // window counts braking can take off the speed at the edge
+  std::uint32_t index_position_ = 0;
+  std::uint32_t index_tolerance_ = 2;
 
-  bool started_ = false;
+  encoder_state state_ = encoder_state::waiting;
+  std::uint32_t missed_ = 0;  // rejected readings since the last good one
+  std::uint32_t quiet_ = 0;   // good samples since the count last changed (to 0xFFFF)
+  std::uint32_t edge_counts_ = 0;
+  std::uint32_t window_counts_ = 0;
+  bool referenced_ = false;
+  bool stuck_ = false;
+  bool count_error_ = false;
   std::uint32_t last_count_ = 0;
   std::uint32_t position_ = 0;
   std::uint32_t total_ = 0;  // counts travelled, wrapping
