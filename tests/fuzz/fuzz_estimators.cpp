@@ -6,7 +6,9 @@
 // a non-finite float input raises the input fault and never reaches the estimate; the PLL's error is the wrapped
 // difference between the reading and its prediction, exactly; an encoder jump or an
 // invalid Hall state raises the sample flag and the sticky fault and holds angle and
-// speed; an encoder's position stays inside the turn.
+// speed; an encoder's position stays inside the turn; an encoder on a shaft within
+// max_speed takes every true reading, rejects every glitch outside its window and gives
+// the exact position for each accepted reading.
 #include <array>
 #include <cmath>
 
@@ -136,6 +138,64 @@ void encoder(byte_reader& in) {
   }
 }
 
+/// An encoder on a shaft that moves at most `max_step` counts per sample, with glitched
+/// readings that lie outside the documented window (max_step per sample since the last
+/// good reading). Invariants: a true reading is never rejected; a glitch always is; an
+/// accepted reading gives the shaft's position exactly (within half a count of it); the
+/// position is lost only after `max_missed()` glitches in a row, and stays lost.
+template <class T>
+void encoder_tracking(byte_reader& in) {
+  dqfx::encoder_parameters p{};
+  p.counts_per_turn = 4u * (1u + in.bits<std::uint16_t>() % 4096u);
+  p.pole_pairs = 1u + in.choice(8);
+  p.counter_period = in.flag() ? 65536u : (in.flag() ? 0u : p.counts_per_turn);
+  p.base_speed = 3000.0;
+  p.sample_time = 1e-4;
+  p.max_speed = 0.05 + 4.0 * std::fabs(in.unit<double>());
+  p.max_rejected = 1u + in.choice(64);
+  dqfx::encoder<T> sensor{p};
+  if (sensor.parameter_fault()) return;
+  const std::int64_t reach = sensor.max_step();
+  const std::int64_t period = p.counter_period == 0 ? (std::int64_t{1} << 32) : p.counter_period;
+  const std::int64_t cpt = p.counts_per_turn;
+  auto reading = [&](std::int64_t count) { return static_cast<std::uint32_t>(((count % period) + period) % period); };
+  std::int64_t shaft = in.bits<std::uint32_t>(), last_good = shaft;
+  sensor.update(reading(shaft));
+  const std::int64_t first = reading(shaft) % cpt;
+  std::int64_t travelled = 0;
+  std::uint32_t missed = 0;
+  const unsigned steps = 8u * in.choice(64);
+  for (unsigned k = 0; k < steps; ++k) {
+    const std::int64_t step = static_cast<std::int64_t>(in.bits<std::uint16_t>() % (2 * reach + 1)) - reach;
+    shaft += step;
+    travelled += step;
+    std::int64_t read = shaft;
+    if (in.choice(8) == 0) {
+      // A glitch, if it lies outside the window (else it would be motion: skip it).
+      const std::int64_t glitched = shaft + static_cast<std::int32_t>(in.bits<std::uint32_t>());
+      std::int64_t d = (std::int64_t{reading(glitched)} - std::int64_t{reading(last_good)}) % period;
+      if (2 * d >= period) d -= period;
+      if (2 * d < -period) d += period;
+      if (std::llabs(d) > reach * (missed + 1)) read = glitched;
+    }
+    const bool was_lost = sensor.lost();
+    sensor.update(reading(read));
+    if (was_lost) {
+      DQFX_FUZZ_CHECK(sensor.lost());
+      continue;
+    }
+    if (read != shaft) {
+      DQFX_FUZZ_CHECK(sensor.jump());
+      DQFX_FUZZ_CHECK(sensor.lost() == (++missed >= sensor.max_missed()));
+      continue;
+    }
+    DQFX_FUZZ_CHECK(!sensor.jump() && !sensor.lost());
+    missed = 0;
+    last_good = shaft;
+    DQFX_FUZZ_CHECK(sensor.position() == static_cast<std::uint32_t>((((first + travelled) % cpt) + cpt) % cpt));
+  }
+}
+
 template <class T>
 void hall(byte_reader& in) {
   dqfx::hall_parameters p{};
@@ -230,7 +290,13 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     using T = decltype(type);
     switch (which) {
       case 0: pll<T>(in); break;
-      case 1: encoder<T>(in); break;
+      case 1:
+        if (in.flag()) {
+          encoder<T>(in);
+        } else {
+          encoder_tracking<T>(in);
+        }
+        break;
       case 2: hall<T>(in); break;
       default: observer<T>(in); break;
     }
