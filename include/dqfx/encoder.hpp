@@ -166,7 +166,7 @@ class encoder {
     if (period_ != 0 && count >= period_) return reject();
     if (state_ == encoder_state::waiting) return start(count, edge_ticks, count % cpt_);
     const std::int64_t step = wrapped_step(count);
-    if (detail::magnitude_u64(step) > std::uint64_t{max_step_} * (missed_ + 1u)) return reject();
+    if (detail::magnitude_u64(step) > reach_) return reject();
     last_count_ = count;
     move(step);
     if (missed_ > 0) spread_over_missed(step);
@@ -174,9 +174,11 @@ class encoder {
     measure_timing(step, edge_ticks, now_ticks);
     select();
     speed_ = filter_.step(raw_speed_);
+    if (stuck_min_ != 0) watch_for_stuck(step);
+    if (missed_ == 0) return;
     missed_ = 0;
+    reach_ = max_step_;
     state_ = encoder_state::tracking;
-    watch_for_stuck(step);
   }
 
   /// The index (Z) pulse: `latched` is the counter's value captured at the pulse. While
@@ -208,7 +210,6 @@ class encoder {
   constexpr void restart() noexcept {
     state_ = encoder_state::waiting;
     referenced_ = false;
-    missed_ = 0;
   }
 
   constexpr angle mechanical() const noexcept { return mechanical_; }
@@ -274,6 +275,7 @@ class encoder {
       return;
     }
     state_ = encoder_state::holding;
+    reach_ += max_step_;
     // Keep the window's time base: this sample moved nothing we believe; the next good
     // reading brings the counts (`spread_over_missed`).
     const T held = counting_speed_;
@@ -299,10 +301,9 @@ class encoder {
   /// can turn now (r counts per sample, with r^2 >= 4 * max change per sample, so it cannot
   /// stop within 2 counts); no count for 4 counts of travel at r means the counter is stuck.
   constexpr void watch_for_stuck(std::int64_t step) noexcept {
-    if (stuck_min_ == 0) return;
     if (step != 0) {
       quiet_ = 0;
-      edge_counts_ = counted_ ? window_counts_ : 0;
+      edge_counts_ = counted_ ? static_cast<std::uint32_t>(detail::magnitude_u64(window_counts_)) : 0;
       return;
     }
     if (quiet_ < 0xFFFF) ++quiet_;
@@ -322,6 +323,7 @@ class encoder {
   constexpr void start(std::uint32_t count, std::uint32_t edge_ticks, std::uint32_t position) noexcept {
     state_ = encoder_state::tracking;
     missed_ = 0;
+    reach_ = max_step_;
     quiet_ = 0;
     edge_counts_ = 0;
     last_count_ = count;
@@ -365,9 +367,8 @@ class encoder {
       return;
     }
     counted_ = true;
-    const std::int64_t counts = signed_of(total_ - oldest);
-    window_counts_ = static_cast<std::uint32_t>(detail::magnitude_u64(counts));
-    counting_speed_ = counting_.times(static_cast<std::int32_t>(counts));
+    window_counts_ = static_cast<std::int32_t>(signed_of(total_ - oldest));
+    counting_speed_ = counting_.times(window_counts_);
   }
 
   constexpr void measure_timing(std::int64_t step, std::uint32_t edge_ticks, std::uint32_t now_ticks) noexcept {
@@ -433,9 +434,10 @@ class encoder {
 
   encoder_state state_ = encoder_state::waiting;
   std::uint32_t missed_ = 0;  // rejected readings since the last good one
+  std::uint32_t reach_ = 0;   // the largest step accepted now: max_step * (missed + 1)
   std::uint32_t quiet_ = 0;   // good samples since the count last changed (to 0xFFFF)
   std::uint32_t edge_counts_ = 0;
-  std::uint32_t window_counts_ = 0;
+  std::int32_t window_counts_ = 0;  // counts over the latest window
   bool referenced_ = false;
   bool stuck_ = false;
   bool count_error_ = false;
