@@ -512,15 +512,15 @@ TEST_CASE_TEMPLATE("Policy 12: a tracking PLL or flux observer reset with a NaN 
   for (T bad : non_finite<T>) {
     dqfx::tracking_pll<T> pll{pll_design(est_base)};
     pll.reset(dqfx::angle::from_degrees(10), T(0.3f));
-    CHECK_FALSE(pll.input_fault());
+    CHECK_FALSE(pll.fault());
     pll.reset(dqfx::angle::from_degrees(20), bad);
-    CHECK(pll.input_fault());
+    CHECK(pll.fault());
     CHECK(pll.speed() == T{});
-    CHECK(pll.position() == dqfx::angle::from_degrees(20));
-    CHECK(pll.next() == pll.position());  // speed 0: it does not move
+    CHECK(pll.electrical_angle() == dqfx::angle::from_degrees(20));
+    CHECK(pll.next() == pll.electrical_angle());  // speed 0: it does not move
     dqfx::flux_observer<T> observer{observer_design(est_base)};
     observer.reset(dqfx::angle::from_degrees(20), bad);
-    CHECK(observer.input_fault());
+    CHECK(observer.fault());
     CHECK(observer.speed() == T{});
   }
 }
@@ -540,7 +540,7 @@ TEST_CASE_TEMPLATE("Policy 12: the float flux observer saturates where the q31 s
       CHECK((std::fabs(static_cast<double>(f.alpha)) <= 1.0 && std::fabs(static_cast<double>(f.beta)) <= 1.0));
       REQUIRE(std::isfinite(static_cast<double>(observer.speed())));
     }
-    CHECK_FALSE(observer.input_fault());  // finite values are not a fault, only saturated
+    CHECK_FALSE(observer.fault());  // finite values are not a fault, only saturated
   }
   // A magnet flux so small that the radial correction gain exceeds 2^30 is refused (for
   // q15/q31 it would saturate; float would overflow).

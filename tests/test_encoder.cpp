@@ -234,12 +234,12 @@ TEST_CASE_TEMPLATE("encoder: a counter jump is flagged and the estimate holds", 
   CHECK(std::fabs(to_double(e.speed()) - 0.3) < 0.01);
   e.clear_faults();
   CHECK_FALSE(e.fault());
-  // A counter that really jumped keeps faulting until restart().
+  // A counter that really jumped keeps faulting until reset() (or until lost).
   for (int n = 0; n < 3; ++n) {
     e.update(counter_of(s.count(k * ts) + 30000, 65536), 0, 0);
     CHECK(e.jump());
   }
-  e.restart();
+  e.reset();
   e.update(counter_of(s.count(k * ts) + 30000, 65536), 0, 0);
   CHECK_FALSE(e.jump());
 }
@@ -407,7 +407,7 @@ TEST_CASE_TEMPLATE("encoder: after max_rejected readings in a row the position i
     CHECK(e.position() == 2500);
     // Tracking again from the index (the latch was less than a turn behind: take the next
     // sample within reach of it instead).
-    e.restart();
+    e.reset();
     CHECK(e.state() == dqfx::encoder_state::waiting);
     e.update(counter_of(s.count(k), period));
     CHECK(e.state() == dqfx::encoder_state::tracking);

@@ -6,6 +6,7 @@
 #include <string>
 
 #include "dqfx/gain_design.hpp"
+#include "dqfx/pi_regulator.hpp"
 #include "dqfx/per_unit.hpp"
 
 namespace {

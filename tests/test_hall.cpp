@@ -7,6 +7,7 @@
 #include <string>
 
 #include "dqfx/hall.hpp"
+#include "dqfx/hall_learner.hpp"
 #include "dqfx_sim/sensors.hpp"
 #include "reference/pmsm_model.hpp"
 #include "test_support.hpp"

@@ -74,7 +74,7 @@ TEST_CASE_TEMPLATE("tracking_pll: zero steady-state error on an angle ramp", T, 
       theta = reference::wrap(theta + speed * rad_per_sample);
       pll.update(dqfx::angle::from_radians(theta));
       if (k > 10000) {
-        worst = std::fmax(worst, degrees_between(pll.position(), theta));
+        worst = std::fmax(worst, degrees_between(pll.electrical_angle(), theta));
         speed_error = std::fmax(speed_error, std::fabs(to_double(pll.speed()) - speed));
       }
     }
@@ -150,7 +150,7 @@ TEST_CASE_TEMPLATE("tracking_pll: constant acceleration leaves an angle error of
     theta = reference::wrap(theta + w * ts + 0.5 * acceleration * ts * ts);
     w += acceleration * ts;
     pll.update(dqfx::angle::from_radians(theta));
-    error = reference::wrap(theta - pll.position().radians());
+    error = reference::wrap(theta - pll.electrical_angle().radians());
   }
   MESSAGE(name<T>(), ": lag ", error, " rad, expected ", acceleration / (wn * wn));
   CHECK(error == doctest::Approx(acceleration / (wn * wn)).epsilon(0.02));
@@ -172,7 +172,7 @@ TEST_CASE_TEMPLATE("tracking_pll: tracks the textbook alpha-beta tracker in doub
     const dqfx::angle m = dqfx::angle::from_radians(measured);
     pll.update(m);
     ref.update(m.radians());
-    angle_error = std::fmax(angle_error, degrees_between(pll.position(), ref.angle));
+    angle_error = std::fmax(angle_error, degrees_between(pll.electrical_angle(), ref.angle));
     speed_error = std::fmax(speed_error, std::fabs(to_double(pll.speed()) - ref.rate / rad_per_sample));
   }
   MESSAGE(name<T>(), ": max |angle - ref| ", angle_error, " deg, max |speed - ref| ", speed_error, " pu");
@@ -187,7 +187,7 @@ TEST_CASE_TEMPLATE("tracking_pll: follows a unit sine/cosine pair; NaN is refuse
   for (int k = 0; k < 20000; ++k) {
     theta = reference::wrap(theta + 0.25 * rad_per_sample);
     pll.update(dqfx::sincos<T>{dqfx::from_double<T>(std::sin(theta)), dqfx::from_double<T>(std::cos(theta))});
-    if (k > 10000) worst = std::fmax(worst, degrees_between(pll.position(), theta));
+    if (k > 10000) worst = std::fmax(worst, degrees_between(pll.electrical_angle(), theta));
   }
   MESSAGE(name<T>(), ": pair input, max angle error ", worst, " deg");
   // q15: the pair itself carries 2^-15 rad of rounding.
@@ -196,9 +196,9 @@ TEST_CASE_TEMPLATE("tracking_pll: follows a unit sine/cosine pair; NaN is refuse
     const T held = pll.speed();
     const dqfx::angle next = pll.next();
     pll.update(dqfx::sincos<T>{std::numeric_limits<T>::quiet_NaN(), T(1)});
-    CHECK(pll.input_fault());
+    CHECK(pll.fault());
     CHECK(pll.speed() == held);
-    CHECK(pll.position() == next);  // coasted at the held speed
+    CHECK(pll.electrical_angle() == next);  // coasted at the held speed
     pll.update(dqfx::sincos<T>{T(0), std::numeric_limits<T>::infinity()});
     CHECK(pll.speed() == held);
   }
@@ -210,7 +210,7 @@ TEST_CASE_TEMPLATE("tracking_pll: designs out of range are flagged and do not mo
   dqfx::tracking_pll<T> aliasing{dqfx::tracking_pll_parameters{two_pi * 50, 0.7, 1e6, ts}};
   CHECK(aliasing.parameter_fault());
   fast.update(dqfx::angle::from_degrees(90));
-  CHECK(fast.position() == dqfx::angle{});
+  CHECK(fast.electrical_angle() == dqfx::angle{});
   CHECK(fast.speed() == T{});
   constexpr dqfx::tracking_pll<T> good{dqfx::tracking_pll_parameters{two_pi * 50, 0.7, base_speed, ts}};
   static_assert(!good.parameter_fault());

@@ -392,7 +392,7 @@ struct pll_update {
   }
   template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
     in.pll.update(in.measured);
-    return estimate<T>::of(in.pll.position(), in.pll.speed());
+    return estimate<T>::of(in.pll.electrical_angle(), in.pll.speed());
   }
 };
 
@@ -477,7 +477,7 @@ struct observer_update {
   }
   template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
     in.observer.update(in.current, in.voltage);
-    return estimate<T>::of(in.observer.position(), in.observer.speed());
+    return estimate<T>::of(in.observer.electrical_angle(), in.observer.speed());
   }
 };
 

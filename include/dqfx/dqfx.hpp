@@ -10,11 +10,13 @@
 #include "dqfx/extended.hpp"          // extended-precision intermediates for one rounding
 #include "dqfx/field_weakening.hpp"   // voltage-feedback field weakening, MTPV limit
 #include "dqfx/fixed.hpp"             // q15, q31
-#include "dqfx/flux_observer.hpp"     // sensorless flux observer, open-loop start
+#include "dqfx/flux_observer.hpp"     // sensorless flux observer
 #include "dqfx/frames.hpp"            // phases, stationary, rotating, sincos
 #include "dqfx/gain_design.hpp"       // current- and speed-loop gains from motor data
-#include "dqfx/hall.hpp"              // Hall sensors: sector angle, interpolation, learning
+#include "dqfx/hall.hpp"              // Hall sensors: sector angle, interpolation
+#include "dqfx/hall_learner.hpp"      // Hall sensors: learning the table from a forced rotation
 #include "dqfx/number.hpp"            // the one number interface
+#include "dqfx/open_loop_start.hpp"   // open-loop start-up and hand-over to the observer
 #include "dqfx/per_unit.hpp"          // per-unit bases, compile-time checked conversions
 #include "dqfx/pi_regulator.hpp"      // PI with anti-windup
 #include "dqfx/polar.hpp"             // angle_of (atan2), magnitude

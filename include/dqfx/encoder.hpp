@@ -32,7 +32,7 @@
 /// `max_rejected` rejections in a row, or sooner when the window would reach half a turn or
 /// half the counter's period (where the turn count becomes ambiguous), the encoder is
 /// `lost()`: it ignores readings until a reference comes back, by an index pulse (`index()`)
-/// or an explicit re-alignment (`restart()`), and never resumes by itself. With
+/// or an explicit re-alignment (`reset()`), and never resumes by itself. With
 /// `max_acceleration` set, a counter that stops while the shaft turns (no count for 4 counts
 /// of travel at the last speed) is `stuck()` and lost too. A drive whose encoder is lost has
 /// no angle: stop producing torque (or hand over to a sensorless estimator) until it is
@@ -79,9 +79,9 @@ struct encoder_parameters {
 /// Which speed method produced the latest raw speed.
 enum class encoder_speed_method : std::uint8_t { timing, counting };
 
-/// waiting: no reading yet (or after `restart()`); tracking: the latest reading was taken;
+/// waiting: no reading yet (or after `reset()`); tracking: the latest reading was taken;
 /// holding: readings rejected, estimate held, still able to resume; lost: the position is
-/// unknown until `index()` or `restart()`.
+/// unknown until `index()` or `reset()`.
 enum class encoder_state : std::uint8_t { waiting, tracking, holding, lost };
 
 namespace detail {
@@ -207,7 +207,7 @@ class encoder {
   /// Forgets the counter reference (after a jump that was real, a lost position, or a
   /// re-homing): the next reading starts again as on power-up, so the offset must be found
   /// again (re-alignment). Faults are kept until `clear_faults()`.
-  constexpr void restart() noexcept {
+  constexpr void reset() noexcept {
     state_ = encoder_state::waiting;
     referenced_ = false;
   }
@@ -227,14 +227,18 @@ class encoder {
   /// lost, since the last `clear_faults()`.
   constexpr bool fault() const noexcept { return fault_; }
   constexpr encoder_state state() const noexcept { return state_; }
+  /// Angle and speed can be used: tracking, or holding through a few rejected readings.
+  constexpr bool valid() const noexcept {
+    return state_ == encoder_state::tracking || state_ == encoder_state::holding;
+  }
   /// The position is unknown (too many rejected readings, or a stuck counter): readings are
-  /// ignored until `index()` or `restart()`.
+  /// ignored until `index()` or `reset()`.
   constexpr bool lost() const noexcept { return state_ == encoder_state::lost; }
   /// Sticky: the counter stood still while the shaft, by `max_acceleration`, had to turn.
   constexpr bool stuck() const noexcept { return stuck_; }
   /// Sticky: an index pulse found the position off by more than `index_tolerance`.
   constexpr bool count_error() const noexcept { return count_error_; }
-  /// An index pulse has set the position since the start or the last `restart()`.
+  /// An index pulse has set the position since the start or the last `reset()`.
   constexpr bool referenced() const noexcept { return referenced_; }
   constexpr void clear_faults() noexcept { fault_ = stuck_ = count_error_ = false; }
   /// Counts per turn outside 4..2^30, zero pole pairs, non-positive times or speeds, a base

@@ -5,8 +5,8 @@
 /// for q15, q31, float and double: the nonlinear flux observer of R. Ortega, L. Praly,
 /// A. Astolfi, J. Lee and K. Nam ("Estimation of rotor position and speed of permanent
 /// magnet synchronous motors with guaranteed stability", IEEE Trans. Control Systems
-/// Technology, 2011) followed by the tracking PLL of tracking_pll.hpp; and an open-loop
-/// current-frequency start-up with a smooth hand-over to the observer.
+/// Technology, 2011) followed by the tracking PLL of tracking_pll.hpp. The open-loop start-up
+/// that brings the motor up to the observer's speed is in open_loop_start.hpp.
 ///
 /// In the stationary frame the stator flux x obeys dx/dt = v - R i. Its part
 /// eta = x - Lq i lies along the rotor's d axis with length psi_a = psi + (Ld - Lq) id
@@ -25,7 +25,7 @@
 /// q31 (integrating voltages needs more than 15 bits); float/double run in T.
 ///
 /// Valid speed range: from `minimum_speed` (below it the back-EMF is too small against
-/// parameter and voltage errors: `trusted()` is false there) up to what the PLL and the
+/// parameter and voltage errors: `valid()` is false there) up to what the PLL and the
 /// per-unit scaling allow (|speed| < 1). Choose `convergence_rate` near half the lowest
 /// electrical speed (rad/s) the drive runs sensorless at: a faster pull onto the circle
 /// lets wrong motor data turn the estimate away from the rotor at low speed.
@@ -35,7 +35,7 @@
 /// high and flux 2 % low it is 3.4 degrees at 0.1 pu and below 1.7 from 0.3 pu up, while
 /// below 0.05 pu the estimate is lost: there `minimum_speed` = 0.1 pu is the right choice.
 ///
-/// Bad input: a NaN or infinite current or voltage (float/double) raises `input_fault()`;
+/// Bad input: a NaN or infinite current or voltage (float/double) raises `fault()`;
 /// the flux state holds, the speed holds its last good value and the angle advances at it.
 /// Finite values saturate in every type: q15/q31 by their arithmetic, float/double at
 /// limits of their own: inputs are clamped to +/-1024 per unit (far beyond any real
@@ -43,7 +43,7 @@
 /// of the q31 state). With the gains bounded by the design rules no intermediate value can
 /// overflow then, so any finite input gives a finite flux and speed; normal inputs never
 /// reach the limits and give the same results as without them. `reset` with a NaN or
-/// infinite speed raises `input_fault()` and restarts the PLL at speed 0.
+/// infinite speed raises `fault()` and restarts the PLL at speed 0.
 /// Designs outside the rules of `parameter_fault()` raise it (a compile-time error for a
 /// constexpr observer) and give an observer that ignores its inputs.
 
@@ -196,7 +196,7 @@ class flux_observer {
             detail::inside(voltage.alpha, most) && detail::inside(voltage.beta, most))) {
         if (detail::non_finite(current.alpha) || detail::non_finite(current.beta) ||
             detail::non_finite(voltage.alpha) || detail::non_finite(voltage.beta)) {
-          input_fault_ = true;
+          fault_ = true;
           pll_.coast();
           return;
         }
@@ -237,9 +237,9 @@ class flux_observer {
   }
 
   /// Restarts with the flux estimate at `rotor` (e.g. a start-up angle) and the PLL there;
-  /// a non-finite speed raises `input_fault()` and restarts the PLL at speed 0.
-  constexpr void reset(angle rotor, T speed = T{}) noexcept {
-    input_fault_ = input_fault_ || detail::non_finite(speed);
+  /// a non-finite speed raises `fault()` and restarts the PLL at speed 0.
+  constexpr void reset(angle rotor = {}, T speed = T{}) noexcept {
+    fault_ = fault_ || detail::non_finite(speed);
     const sincos<S> sc = sincos_of<S>(rotor);
     constexpr double edge = detail::observer_state_limit;
     x_ = {detail::limited(i_.alpha * inductance_ + sc.cos * flux_, edge),
@@ -252,7 +252,7 @@ class flux_observer {
   }
 
   /// Filtered electrical angle (PLL) at the latest sample.
-  constexpr angle position() const noexcept { return pll_.position(); }
+  constexpr angle electrical_angle() const noexcept { return pll_.electrical_angle(); }
   /// The angle expected at the next sample.
   constexpr angle next() const noexcept { return pll_.next(); }
   /// Filtered electrical speed, per unit.
@@ -266,10 +266,10 @@ class flux_observer {
             detail::narrow<T>(detail::limited(eta_.beta, edge) * unscale_)};
   }
   /// Above the minimum speed (with 20 % hysteresis): the estimate can be used to control.
-  constexpr bool trusted() const noexcept { return trusted_; }
+  constexpr bool valid() const noexcept { return trusted_; }
   /// Sticky: a non-finite current, voltage or reset speed was refused.
-  constexpr bool input_fault() const noexcept { return input_fault_; }
-  constexpr void clear_faults() noexcept { input_fault_ = false; }
+  constexpr bool fault() const noexcept { return fault_; }
+  constexpr void clear_faults() noexcept { fault_ = false; }
   /// Non-positive inductance or flux, flux >= 1, negative resistance, convergence_rate * Ts
   /// outside (0, 0.5], base_speed * Ts >= 1, a PLL design out of range (the PLL's
   /// speed-scale rule included), or a gain beyond +/-2^30: the resistance drop per sample
@@ -315,128 +315,8 @@ class flux_observer {
   stationary<S> eta_{};
   angle observed_{};
   bool trusted_ = false;
-  bool input_fault_ = false;
+  bool fault_ = false;
   bool parameter_fault_ = false;
-};
-
-/// Open-loop start-up settings (per unit, seconds).
-struct open_loop_start_parameters {
-  double current = 0.0;          ///< amplitude of the imposed current vector
-  double acceleration = 0.0;     ///< per-unit speed gained per second
-  double handover_speed = 0.0;   ///< per unit: the ramp ends here and the hand-over begins
-  double handover_time = 0.0;    ///< s over which the angle moves from open loop to observer
-  double base_speed = 1.0;       ///< electrical rad/s that speed 1.0 stands for
-  double sample_time = 0.0;      ///< s
-  double agreement = 0.2;        ///< observer and ramp speeds must agree within this fraction
-  double timeout = 1.0;          ///< s at the hand-over speed before giving up
-};
-
-/// Where the start-up is.
-enum class start_phase : std::uint8_t { ramp, blend, done, failed };
-
-/// Current-frequency (I-f) start-up: the current vector of fixed amplitude turns at a
-/// speed ramped up to `handover_speed`; the rotor, pulled by the field, follows with a
-/// load angle. Once there and the observer is trusted and agrees on the speed, the angle
-/// given to the current loop moves linearly from the open-loop angle to the observer's
-/// over `handover_time`, while the current set-point is turned by the same amount, so the
-/// current vector in the machine (and the torque) does not jump. At `done` the caller
-/// hands the speed regulator the present q set-point (e.g. `pi_regulator::preload`) and
-/// runs on the observer. `failed` if the observer has not agreed within `timeout`.
-template <class T>
-class open_loop_start {
-  static_assert(is_number_v<T>, "dqfx::open_loop_start supports q15, q31, float and double");
-
- public:
-  constexpr open_loop_start() noexcept = default;
-  constexpr explicit open_loop_start(const open_loop_start_parameters& p) noexcept
-      : current_{detail::bounded<T>(p.current)},
-        target_{detail::bounded<T>(p.handover_speed)},
-        low_{detail::bounded<T>(p.handover_speed * (1.0 - p.agreement))},
-        high_{detail::bounded<T>(p.handover_speed * (1.0 + p.agreement))},
-        increment_{extended_of(p.acceleration * p.sample_time)},
-        rate_{angle_rate<T>::from_base(p.base_speed, p.sample_time)},
-        blend_samples_{samples_of(p.handover_time, p.sample_time)},
-        timeout_samples_{samples_of(p.timeout, p.sample_time)} {}
-
-  /// One sample: the observer's latest angle, speed and trust.
-  constexpr void update(angle observer_angle, T observer_speed, bool observer_trusted) noexcept {
-    if (phase_ == start_phase::done || phase_ == start_phase::failed) {
-      angle_ = observer_angle;
-      speed_ = observer_speed;
-      return;
-    }
-    open_angle_ = rate_.advance(open_angle_, open_speed_);
-    if (phase_ == start_phase::ramp) {
-      if (ramp_ < extended<T>{target_}) ramp_ = ramp_ + increment_;
-      const bool reached = !(ramp_ < extended<T>{target_});
-      open_speed_ = reached ? target_ : ramp_.rounded();
-      if (reached) {
-        if (observer_trusted && observer_speed > low_ && observer_speed < high_) {
-          phase_ = start_phase::blend;
-          count_ = 0;
-        } else if (++count_ > timeout_samples_) {
-          phase_ = start_phase::failed;
-        }
-      }
-    }
-    std::int64_t shift = 0;
-    if (phase_ == start_phase::blend) {
-      ++count_;
-      shift = std::int64_t{difference(observer_angle, open_angle_)} * count_ / blend_samples_;
-      if (count_ >= blend_samples_) phase_ = start_phase::done;
-    }
-    const angle turned = angle::from_raw(static_cast<std::uint32_t>(static_cast<std::uint64_t>(shift) & 0xFFFFFFFFu));
-    angle_ = open_angle_ + turned;
-    speed_ = phase_ == start_phase::ramp ? open_speed_ : observer_speed;
-    // The imposed vector stays put in the machine: (0, I) in the open-loop frame seen
-    // from a frame turned ahead by `turned`.
-    const sincos<T> sc = sincos_of<T>(-turned);
-    setpoint_ = {-(current_ * sc.sin), current_ * sc.cos};
-  }
-
-  /// The electrical angle for the current loop.
-  constexpr angle electrical_angle() const noexcept { return angle_; }
-  /// The speed for the current loop's feed-forward (ramp speed, then the observer's).
-  constexpr T speed() const noexcept { return speed_; }
-  /// The d/q current set-point in the frame of `electrical_angle()`.
-  constexpr rotating<T> current_setpoint() const noexcept { return setpoint_; }
-  constexpr start_phase phase() const noexcept { return phase_; }
-
- private:
-  /// A small per-sample increment without rounding it to T (q15/q31: extended bits).
-  static constexpr extended<T> extended_of(double v) noexcept {
-    if constexpr (is_fixed_v<T>) {
-      using raw = decltype(extended<T>{}.raw());
-      constexpr double scale = static_cast<double>(std::int64_t{1} << extended<T>::fraction_bits);
-      const double x = v * scale;
-      const double most = static_cast<double>(std::numeric_limits<raw>::max()) / 2;
-      return extended<T>::from_raw(static_cast<raw>(x > 0.0 ? detail::round_half_away(x < most ? x : most) : 0));
-    } else {
-      return extended<T>{static_cast<T>(v > 0.0 ? v : 0.0)};
-    }
-  }
-  static constexpr std::int64_t samples_of(double seconds, double sample_time) noexcept {
-    const double n = sample_time > 0.0 ? seconds / sample_time : 1.0;
-    return n >= 1.0 && n < 1e12 ? detail::round_half_away(n) : 1;
-  }
-
-  T current_{};
-  T target_{};
-  T low_{};
-  T high_{};
-  extended<T> increment_{};
-  angle_rate<T> rate_ = angle_rate<T>::from_base(0.0, 0.0);
-  std::int64_t blend_samples_ = 1;
-  std::int64_t timeout_samples_ = 1;
-
-  start_phase phase_ = start_phase::ramp;
-  extended<T> ramp_{};
-  std::int64_t count_ = 0;
-  angle open_angle_{};
-  T open_speed_{};
-  angle angle_{};
-  T speed_{};
-  rotating<T> setpoint_{};
 };
 
 }  // namespace dqfx

@@ -18,11 +18,23 @@
 /// Tsig = 1/(a*wsc), Kp = J*wsc/Kt, Ti = a^2*Tsig, and the phase margin is
 /// atan(a) - atan(1/a) (a = 2: 36.9 degrees). The current loop must be at least a*wsc fast.
 
+#include <cstdint>
 #include <limits>
 
-#include "dqfx/pi_regulator.hpp"
+#include "dqfx/number.hpp"
 
 namespace dqfx {
+
+/// Regulator settings in plain numbers (per unit). Converted once, at compile time when
+/// the regulator is a constexpr object.
+struct pi_parameters {
+  double kp = 0.0;         ///< proportional gain
+  double ki = 0.0;         ///< integral gain per sample, Ki * Ts
+  double kt = 0.0;         ///< back-calculation tracking gain per sample, Ts / Tt
+  double lower = -1.0;     ///< output limits; clamped into the type's range
+  double upper = 1.0;
+};
+
 
 namespace detail {
 

@@ -2,8 +2,8 @@
 #pragma once
 /// \file
 /// Three Hall sensors: the three-bit state to an electrical angle, direction and speed,
-/// with interpolation between edges, for q15, q31, float and double; and a routine that
-/// learns the state-to-angle table from a forced slow rotation.
+/// with interpolation between edges, for q15, q31, float and double (hall_learner.hpp
+/// learns the state-to-angle table from a forced slow rotation).
 ///
 /// State bits: sensor a is bit 0, b bit 1, c bit 2. States 1..6 are valid; 0 (all low)
 /// and 7 (all high) cannot occur with working sensors.
@@ -18,7 +18,7 @@
 /// on from the last edge at that speed and stops at the next expected edge, never beyond.
 /// With no edge for longer than the last interval the speed can be no more than the
 /// present sector's width over the time since the edge, and is reported so. Below
-/// `min_speed` (no edge for the time a sector takes at that speed) the rotor counts as
+/// `minimum_speed` (no edge for the time a sector takes at that speed) the rotor counts as
 /// standing: speed 0, angle the middle of the sector (within +/-30 degrees); so also after
 /// power-up and after a reversal until two edges in one direction have been seen.
 ///
@@ -103,7 +103,7 @@ struct hall_parameters {
   double base_speed = 1.0;      ///< electrical rad/s that speed 1.0 stands for
   double sample_time = 0.0;     ///< s
   double tick_frequency = 0.0;  ///< Hz of the edge-capture timer (0: sample clock only)
-  double min_speed = 0.005;     ///< per unit: slower counts as standing still
+  double minimum_speed = 0.005;     ///< per unit: slower counts as standing still
 };
 
 template <class T>
@@ -169,6 +169,17 @@ class hall_sensor {
   /// Sticky: a bad state was seen since the last `clear_faults()`.
   constexpr bool fault() const noexcept { return fault_; }
   constexpr void clear_faults() noexcept { fault_ = false; }
+  /// Angle and speed can be used: a valid state has been seen since the start or `reset()`.
+  constexpr bool valid() const noexcept { return state_ != 0; }
+  /// Forgets the state: the next valid one starts again as on power-up (faults are kept).
+  constexpr void reset() noexcept {
+    state_ = 0;
+    suspect_ = 0;
+    moving_ = false;
+    edges_ = 0;
+    rate_ = 0;
+    speed_ = T{};
+  }
   /// The table is not six sectors of 20..100 degrees, the times are not positive, the base
   /// speed moves less than 2^-32 turn or at least half a turn per sample, or the tick
   /// frequency is negative, not a number or 2^32 ticks per sample or more.
@@ -186,11 +197,11 @@ class hall_sensor {
         p.tick_frequency > 0.0 ? p.tick_frequency : (p.sample_time > 0.0 ? 1.0 / p.sample_time : 0.0);
     return p.base_speed > 0.0 ? 6.283185307179586477 / 4294967296.0 * ticks_per_second / p.base_speed : 0.0;
   }
-  /// Ticks a 60-degree sector takes at min_speed (capped below 2^31).
+  /// Ticks a 60-degree sector takes at minimum_speed (capped below 2^31).
   static constexpr std::uint32_t standstill_ticks(const hall_parameters& p) noexcept {
     const double ticks_per_second =
         p.tick_frequency > 0.0 ? p.tick_frequency : (p.sample_time > 0.0 ? 1.0 / p.sample_time : 0.0);
-    const double w = p.min_speed * p.base_speed;  // rad/s
+    const double w = p.minimum_speed * p.base_speed;  // rad/s
     const double t = w > 0.0 ? 1.0471975511965976 / w * ticks_per_second : 2147483647.0;
     return t < 2147483647.0 ? static_cast<std::uint32_t>(t) : 2147483647u;
   }
@@ -282,96 +293,6 @@ class hall_sensor {
   bool bad_state_ = false;
   bool fault_ = false;
   bool parameter_fault_ = false;
-};
-
-/// Learns a `hall_table` while the drive forces the field slowly round (open loop, the
-/// rotor following with some lag): `observe` every sample with the forced electrical
-/// angle and the Hall state. Each change of state is placed at the middle of the two
-/// forced angles around it; a boundary's angle is averaged separately over forward and
-/// backward crossings and the two means are averaged, which cancels a lag that is the
-/// same both ways (friction, sensor hysteresis). Turn at least one electrical turn each
-/// way; a single direction leaves the lag in the table.
-class hall_learner {
- public:
-  struct result_type {
-    hall_table table{};
-    bool ok = false;          ///< all six boundaries seen, sectors of 20..100 degrees, order consistent
-    unsigned invalid = 0;     ///< samples with state 000 or 111
-    unsigned jumps = 0;       ///< changes between non-adjacent states (one-way order conflicts)
-  };
-
-  constexpr void observe(angle forced, std::uint8_t state) noexcept {
-    if (state == 0 || state >= 7) {
-      ++invalid_;
-      return;
-    }
-    if (last_state_ != 0 && state != last_state_) {
-      const std::int32_t moved = difference(forced, last_forced_);
-      const angle at = last_forced_ + angle::from_raw(static_cast<std::uint32_t>(moved / 2));
-      if (moved > 0) {
-        add(forward_[state], at);  // the new state begins here
-        ahead_[last_state_] = state;
-      } else if (moved < 0) {
-        add(backward_[last_state_], at);  // the old state began here
-        ahead_[state] = last_state_;
-      }
-    }
-    last_state_ = state;
-    last_forced_ = forced;
-  }
-
-  constexpr result_type result() const noexcept {
-    result_type r{};
-    r.invalid = invalid_;
-    bool seen_all = true;
-    for (std::uint8_t s = 1; s <= 6; ++s) {
-      const boundary& f = forward_[s];
-      const boundary& b = backward_[s];
-      if (f.count == 0 && b.count == 0) {
-        seen_all = false;
-        continue;
-      }
-      if (f.count > 0 && b.count > 0) {
-        const angle mf = f.mean(), mb = b.mean();
-        r.table.start[s] = mb + angle::from_raw(static_cast<std::uint32_t>(difference(mf, mb) / 2));
-      } else {
-        r.table.start[s] = f.count > 0 ? f.mean() : b.mean();
-      }
-    }
-    const detail::hall_order order = detail::hall_order::of(r.table);
-    bool consistent = true;
-    for (std::uint8_t s = 1; s <= 6; ++s) {
-      if (ahead_[s] != 0 && ahead_[s] != order.next[s]) {
-        consistent = false;
-        ++r.jumps;
-      }
-    }
-    r.ok = seen_all && order.valid && consistent;
-    return r;
-  }
-
- private:
-  struct boundary {
-    angle reference{};
-    std::int64_t sum = 0;  // offsets from the reference, binary-angle units
-    std::uint32_t count = 0;
-    constexpr angle mean() const noexcept {
-      const std::int64_t m = count > 0 ? sum / static_cast<std::int64_t>(count) : 0;
-      return reference + angle::from_raw(static_cast<std::uint32_t>(static_cast<std::uint64_t>(m) & 0xFFFFFFFFu));
-    }
-  };
-  static constexpr void add(boundary& b, angle at) noexcept {
-    if (b.count == 0) b.reference = at;
-    b.sum += difference(at, b.reference);
-    ++b.count;
-  }
-
-  std::array<boundary, 8> forward_{};
-  std::array<boundary, 8> backward_{};
-  std::array<std::uint8_t, 8> ahead_{};
-  std::uint8_t last_state_ = 0;
-  angle last_forced_{};
-  unsigned invalid_ = 0;
 };
 
 }  // namespace dqfx

@@ -48,6 +48,7 @@
 #include <cstdint>
 #include <type_traits>
 
+#include "dqfx/gain_design.hpp"  // pi_parameters
 #include "dqfx/number.hpp"
 
 namespace dqfx {
@@ -58,16 +59,6 @@ struct conditional_integration {};
 struct back_calculation {};
 /// No anti-windup: the integrator winds up (kept for comparison).
 struct no_anti_windup {};
-
-/// Regulator settings in plain numbers (per unit). Converted once, at compile time when
-/// the regulator is a constexpr object.
-struct pi_parameters {
-  double kp = 0.0;         ///< proportional gain
-  double ki = 0.0;         ///< integral gain per sample, Ki * Ts
-  double kt = 0.0;         ///< back-calculation tracking gain per sample, Ts / Tt
-  double lower = -1.0;     ///< output limits; clamped into the type's range
-  double upper = 1.0;
-};
 
 namespace detail {
 template <class T, class = void> struct pi_arith;

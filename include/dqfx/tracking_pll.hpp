@@ -31,10 +31,10 @@
 /// estimators share, detail::speed_scale_valid); others raise `parameter_fault()` (a
 /// compile-time error for a constexpr loop) and give a loop that does not move.
 ///
-/// Bad input: a NaN or infinite sine/cosine (float/double) raises `input_fault()`; the
+/// Bad input: a NaN or infinite sine/cosine (float/double) raises `fault()`; the
 /// speed holds its last good value and the angle advances at that speed (a frozen angle
 /// would be wrong by a whole turn within a few milliseconds of running). `reset` with a
-/// NaN or infinite speed raises `input_fault()` and restarts at speed 0; a finite speed
+/// NaN or infinite speed raises `fault()` and restarts at speed 0; a finite speed
 /// beyond half a turn per sample saturates there.
 
 #include <cstdint>
@@ -217,7 +217,7 @@ class tracking_pll {
   /// gain scales with the amplitude; a pair of amplitude A acts like gains A*alpha, A*beta.
   constexpr void update(sincos<T> measured) noexcept {
     if (detail::non_finite(measured.sin) || detail::non_finite(measured.cos)) {
-      input_fault_ = true;
+      fault_ = true;
       angle_ = next();  // coast at the held speed
       return;
     }
@@ -230,7 +230,7 @@ class tracking_pll {
   constexpr void coast() noexcept { angle_ = next(); }
 
   /// The filtered angle at the latest sample.
-  constexpr angle position() const noexcept { return angle_; }
+  constexpr angle electrical_angle() const noexcept { return angle_; }
   /// The angle expected at the next sample (what the next PWM period starts from).
   constexpr angle next() const noexcept { return advance(angle_, recipe::units(k_, rate_)); }
   /// The filtered speed, per unit (saturated to T's range).
@@ -239,10 +239,10 @@ class tracking_pll {
   constexpr std::int32_t error() const noexcept { return error_; }
 
   /// Restarts the loop at an angle and speed (per unit); a non-finite speed raises
-  /// `input_fault()` and restarts at speed 0.
-  constexpr void reset(angle a, T speed = T{}) noexcept {
+  /// `fault()` and restarts at speed 0.
+  constexpr void reset(angle a = {}, T speed = T{}) noexcept {
     const bool refused = detail::non_finite(speed);
-    input_fault_ = input_fault_ || refused;
+    fault_ = fault_ || refused;
     angle_ = a;
     rate_ = parameter_fault_ || refused ? rate_type{} : recipe::rate_of(k_, speed);
     error_ = 0;
@@ -253,8 +253,10 @@ class tracking_pll {
   /// less than 2^-32 turn or at least half a turn per sample.
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
   /// Sticky: a non-finite sine, cosine or reset speed was refused.
-  constexpr bool input_fault() const noexcept { return input_fault_; }
-  constexpr void clear_faults() noexcept { input_fault_ = false; }
+  constexpr bool fault() const noexcept { return fault_; }
+  constexpr void clear_faults() noexcept { fault_ = false; }
+  /// Angle and speed can be used: the design is valid (the loop always has an estimate).
+  constexpr bool valid() const noexcept { return !parameter_fault_; }
 
  private:
   static constexpr double units_per_speed(const tracking_pll_parameters& p) noexcept {
@@ -275,7 +277,7 @@ class tracking_pll {
   rate_type rate_{};
   std::int32_t error_ = 0;
   bool parameter_fault_ = false;
-  bool input_fault_ = false;
+  bool fault_ = false;
 };
 
 }  // namespace dqfx

@@ -62,7 +62,7 @@ void pll(byte_reader& in) {
   if (breaks_speed_scale(p.base_speed, p.sample_time)) DQFX_FUZZ_CHECK(loop.parameter_fault());
   const unsigned steps = in.choice(32);
   for (unsigned k = 0; k < steps; ++k) {
-    const dqfx::angle before = loop.position();
+    const dqfx::angle before = loop.electrical_angle();
     switch (in.choice(4)) {
       case 0: {
         const dqfx::angle measured = in.angle();
@@ -76,8 +76,8 @@ void pll(byte_reader& in) {
         const dqfx::angle predicted = loop.next();
         loop.update(measured);
         if (!is_finite(measured.sin) || !is_finite(measured.cos)) {
-          DQFX_FUZZ_CHECK(loop.input_fault());
-          DQFX_FUZZ_CHECK(loop.position() == predicted);  // coasts at the held speed
+          DQFX_FUZZ_CHECK(loop.fault());
+          DQFX_FUZZ_CHECK(loop.electrical_angle() == predicted);  // coasts at the held speed
         }
         break;
       }
@@ -86,13 +86,13 @@ void pll(byte_reader& in) {
         const dqfx::angle at = in.angle();
         const T speed = in.mostly_unit<T>();
         loop.reset(at, speed);
-        DQFX_FUZZ_CHECK(loop.position() == at);
-        if (!is_finite(speed)) DQFX_FUZZ_CHECK(loop.input_fault() && loop.speed() == T{});
+        DQFX_FUZZ_CHECK(loop.electrical_angle() == at);
+        if (!is_finite(speed)) DQFX_FUZZ_CHECK(loop.fault() && loop.speed() == T{});
         break;
       }
     }
     DQFX_FUZZ_CHECK(not_nan(loop.speed()));
-    if (loop.parameter_fault() && loop.speed() == T{}) DQFX_FUZZ_CHECK(loop.next() == loop.position());
+    if (loop.parameter_fault() && loop.speed() == T{}) DQFX_FUZZ_CHECK(loop.next() == loop.electrical_angle());
     static_cast<void>(before);
   }
 }
@@ -117,7 +117,7 @@ void encoder(byte_reader& in) {
   std::uint32_t count = in.bits<std::uint32_t>(), ticks = 0;
   const unsigned steps = in.choice(48);
   for (unsigned k = 0; k < steps; ++k) {
-    if (in.choice(32) == 0) sensor.restart();
+    if (in.choice(32) == 0) sensor.reset();
     const dqfx::angle angle_before = sensor.electrical_angle();
     const T speed_before = sensor.speed();
     count += static_cast<std::uint32_t>(static_cast<std::int32_t>(static_cast<std::int8_t>(in.bits<std::uint8_t>())));
@@ -208,7 +208,7 @@ void hall(byte_reader& in) {
   p.base_speed = parameter(in, 3000.0);
   p.sample_time = parameter(in, 1e-4);
   p.tick_frequency = in.flag() ? 0.0 : parameter(in, 1e7);
-  p.min_speed = parameter(in, 0.005);
+  p.minimum_speed = parameter(in, 0.005);
   dqfx::hall_sensor<T> sensor{p};
   if (breaks_speed_scale(p.base_speed, p.sample_time) || breaks_tick_frequency(p.tick_frequency, p.sample_time)) {
     DQFX_FUZZ_CHECK(sensor.parameter_fault());
@@ -267,14 +267,14 @@ void observer(byte_reader& in) {
       const dqfx::angle at = in.angle();  // read in order: argument order is unspecified
       const T speed = in.mostly_unit<T>();
       estimate.reset(at, speed);
-      if (!is_finite(speed)) DQFX_FUZZ_CHECK(estimate.input_fault() && estimate.speed() == T{});
+      if (!is_finite(speed)) DQFX_FUZZ_CHECK(estimate.fault() && estimate.speed() == T{});
     }
     // Any value, finite ones far beyond the per-unit range included.
     const dqfx::stationary<T> i{in.mostly_unit<T>(), in.mostly_unit<T>()};
     const dqfx::stationary<T> v{in.mostly_unit<T>(), in.mostly_unit<T>()};
     estimate.update(i, v);
     const bool finite = is_finite(i.alpha) && is_finite(i.beta) && is_finite(v.alpha) && is_finite(v.beta);
-    if (!finite && !estimate.parameter_fault()) DQFX_FUZZ_CHECK(estimate.input_fault());  // a faulted design ignores input
+    if (!finite && !estimate.parameter_fault()) DQFX_FUZZ_CHECK(estimate.fault());  // a faulted design ignores input
     DQFX_FUZZ_CHECK(not_nan(estimate.speed()));
     const dqfx::stationary<T> f = estimate.flux();
     DQFX_FUZZ_CHECK(not_nan(f.alpha) && not_nan(f.beta));
