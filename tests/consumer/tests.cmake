@@ -1,7 +1,8 @@
 # SPDX-License-Identifier: MIT
 # Packaging tests (label `package`): the consumer project in this folder builds and runs
 # against dqfx used through add_subdirectory, FetchContent from the local source tree, and
-# find_package(dqfx CONFIG) after `cmake --install` of this build into a scratch prefix.
+# find_package(dqfx CONFIG) after a plain configure and `cmake --install` of this source
+# tree into a scratch prefix (tests/consumer/install.cmake).
 set(dqfx_consumer_src ${CMAKE_CURRENT_LIST_DIR})
 set(dqfx_consumer_bin ${CMAKE_CURRENT_BINARY_DIR}/consumer)
 set(dqfx_consumer_prefix ${dqfx_consumer_bin}/prefix)
@@ -19,10 +20,9 @@ endfunction()
 
 dqfx_add_consumer_test(subdirectory)
 dqfx_add_consumer_test(fetchcontent)
-if(DQFX_INSTALL)
-  add_test(NAME package.install COMMAND ${CMAKE_COMMAND}
-    -DBUILD_DIR=${PROJECT_BINARY_DIR} -DPREFIX=${dqfx_consumer_prefix}
-    -P ${dqfx_consumer_src}/install.cmake)
-  set_tests_properties(package.install PROPERTIES LABELS package FIXTURES_SETUP dqfx_installed)
-  dqfx_add_consumer_test(find_package FIXTURES_REQUIRED dqfx_installed)
-endif()
+add_test(NAME package.install COMMAND ${CMAKE_COMMAND}
+  -DSOURCE_DIR=${PROJECT_SOURCE_DIR} -DSCRATCH=${dqfx_consumer_bin}/plain -DPREFIX=${dqfx_consumer_prefix}
+  -DCXX=${CMAKE_CXX_COMPILER} -DGENERATOR=${CMAKE_GENERATOR} -DMAKE_PROGRAM=${CMAKE_MAKE_PROGRAM}
+  -P ${dqfx_consumer_src}/install.cmake)
+set_tests_properties(package.install PROPERTIES LABELS package FIXTURES_SETUP dqfx_installed)
+dqfx_add_consumer_test(find_package FIXTURES_REQUIRED dqfx_installed)

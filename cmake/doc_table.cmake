@@ -1,0 +1,115 @@
+# SPDX-License-Identifier: MIT
+# ctest and build script (cmake -P): one generated region of a Markdown document, between
+#   <!-- generated NAME: ... -->   and   <!-- end generated NAME -->
+# is what a program prints. MODE=check fails when the checked-in region differs from what
+# the program prints now; MODE=update rewrites the region (`cmake/run.sh docs` does this
+# for every region). Host timings, which vary from run to run, never go in a region.
+#   DOC      the Markdown file
+#   NAME     the region's name
+#   MODE     check or update
+#   INPUT    a file holding the program's output, or
+#   PROGRAM  a program to run (its arguments '|'-separated in ARGS), whose stdout is used
+#   FIRST    optional: the output from the first line that starts with this text
+#   STOP     optional: up to (not including) the first later line that starts with this text
+#   KEEP     optional: of those, only the lines that match this regular expression
+cmake_minimum_required(VERSION 3.20)
+foreach(var DOC NAME MODE)
+  if(NOT DEFINED ${var})
+    message(FATAL_ERROR "doc_table.cmake: ${var} is not set")
+  endif()
+endforeach()
+
+if(DEFINED PROGRAM)
+  string(REPLACE "|" ";" args "${ARGS}")
+  execute_process(COMMAND ${PROGRAM} ${args} RESULT_VARIABLE rc OUTPUT_VARIABLE generated
+                  ERROR_VARIABLE errors)
+  if(NOT rc EQUAL 0)
+    message(FATAL_ERROR "${PROGRAM} failed (${rc}):\n${errors}")
+  endif()
+else()
+  file(READ ${INPUT} generated)
+endif()
+
+# Lines as a list: protect the characters CMake lists treat specially.
+string(REPLACE ";" "<dqfx-semicolon>" generated "${generated}")
+string(REPLACE "[" "<dqfx-open>" generated "${generated}")
+string(REPLACE "]" "<dqfx-close>" generated "${generated}")
+string(REPLACE "\n" ";" lines "${generated}")
+set(kept "")
+set(state before)
+foreach(line IN LISTS lines)
+  string(REGEX REPLACE "[ \t\r]+$" "" line "${line}")
+  if(state STREQUAL "before")
+    if(NOT DEFINED FIRST)
+      set(state inside)
+    else()
+      string(FIND "${line}" "${FIRST}" at)
+      if(at EQUAL 0)
+        set(state inside)
+      endif()
+    endif()
+  elseif(DEFINED STOP)
+    string(FIND "${line}" "${STOP}" at)
+    if(at EQUAL 0)
+      break()
+    endif()
+  endif()
+  if(state STREQUAL "inside")
+    if(DEFINED KEEP)
+      string(REPLACE "<dqfx-open>" "[" plain "${line}")
+      string(REPLACE "<dqfx-close>" "]" plain "${plain}")
+      if(NOT plain MATCHES "${KEEP}")
+        continue()
+      endif()
+    endif()
+    string(APPEND kept "${line}\n")
+  endif()
+endforeach()
+string(REPLACE "<dqfx-semicolon>" ";" kept "${kept}")
+string(REPLACE "<dqfx-open>" "[" kept "${kept}")
+string(REPLACE "<dqfx-close>" "]" kept "${kept}")
+string(STRIP "${kept}" kept)
+if(kept STREQUAL "")
+  message(FATAL_ERROR "${NAME}: the program printed nothing to keep")
+endif()
+
+file(READ ${DOC} doc)
+set(begin_tag "<!-- generated ${NAME}:")
+set(end_tag "<!-- end generated ${NAME} -->")
+string(FIND "${doc}" "${begin_tag}" begin)
+string(FIND "${doc}" "${end_tag}" end)
+if(begin EQUAL -1 OR end EQUAL -1 OR end LESS begin)
+  message(FATAL_ERROR "${DOC}: no region '${begin_tag} ... -->' ... '${end_tag}'")
+endif()
+string(SUBSTRING "${doc}" ${begin} -1 from_begin)
+string(FIND "${from_begin}" "-->\n" begin_close)
+math(EXPR body_start "${begin} + ${begin_close} + 4")
+math(EXPR body_length "${end} - ${body_start}")
+string(SUBSTRING "${doc}" ${body_start} ${body_length} checked_in)
+string(STRIP "${checked_in}" checked_in)
+
+if(MODE STREQUAL "update")
+  if(checked_in STREQUAL kept)
+    message(STATUS "${DOC}: ${NAME} is up to date")
+    return()
+  endif()
+  string(SUBSTRING "${doc}" 0 ${body_start} head)
+  string(SUBSTRING "${doc}" ${end} -1 tail)
+  file(WRITE ${DOC} "${head}${kept}\n${tail}")
+  message(STATUS "${DOC}: ${NAME} regenerated")
+elseif(MODE STREQUAL "check")
+  if(NOT checked_in STREQUAL kept)
+    get_filename_component(doc_name ${DOC} NAME)
+    set(now ${CMAKE_CURRENT_BINARY_DIR}/${doc_name}.${NAME}.now)
+    set(was ${CMAKE_CURRENT_BINARY_DIR}/${doc_name}.${NAME}.checked-in)
+    file(WRITE ${now} "${kept}\n")
+    file(WRITE ${was} "${checked_in}\n")
+    execute_process(COMMAND diff -u ${was} ${now} OUTPUT_VARIABLE difference)
+    message(FATAL_ERROR "${DOC}: the table '${NAME}' differs from what the program prints now.\n"
+      "Regenerate the tables with `cmake/run.sh docs` (see DEVELOPERS.md) and commit them.\n"
+      "${difference}")
+  endif()
+  message(STATUS "${DOC}: ${NAME} matches the program")
+else()
+  message(FATAL_ERROR "doc_table.cmake: MODE must be check or update, not '${MODE}'")
+endif()
