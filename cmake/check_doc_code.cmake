@@ -1,7 +1,8 @@
 # SPDX-License-Identifier: MIT
 # ctest script (cmake -P): every C++ block of a Markdown document compiles as shown. Each
 # ```cpp block is one translation unit, compiled for the host; a block right after the
-# line `<!-- code: cortex-m4 -->` is target code and is compiled for Cortex-M4 as well.
+# line `<!-- code: cortex-m4 -->` is target code: compiled for Cortex-M4 as well, and its
+# object may not call the soft-float double helpers (no double in an interrupt).
 # Other spellings of a C++ fence (c++, cxx, cc) are refused, so no block escapes the check.
 #   DOC        the Markdown file
 #   OUT_DIR    where the extracted blocks go
@@ -75,6 +76,15 @@ while(TRUE)
     endif()
     execute_process(COMMAND ${compiler} ${these_flags} ${includes} -c ${source} -o ${source}.${platform}.o
                     RESULT_VARIABLE rc OUTPUT_VARIABLE out ERROR_VARIABLE out)
+    if(rc EQUAL 0 AND NOT platform STREQUAL "host")
+      # Target blocks are interrupt code: no double arithmetic (soft-float helpers).
+      string(REGEX REPLACE "g\\+\\+$" "nm" nm "${compiler}")
+      execute_process(COMMAND ${nm} -u ${source}.${platform}.o OUTPUT_VARIABLE undefined)
+      if(undefined MATCHES "__aeabi_(d[a-z0-9]+|[a-z0-9]+2d)")
+        set(rc 1)
+        set(out "the object calls the double helper ${CMAKE_MATCH_0}: keep double out of target code\n")
+      endif()
+    endif()
     if(rc EQUAL 0)
       message(STATUS "${DOC}:${line}: compiles (${platform})")
     else()
