@@ -105,9 +105,9 @@ elseif(MODE STREQUAL "check")
     file(WRITE ${now} "${kept}\n")
     file(WRITE ${was} "${checked_in}\n")
     execute_process(COMMAND diff -u ${was} ${now} OUTPUT_VARIABLE difference)
-    message(FATAL_ERROR "${DOC}: the table '${NAME}' differs from what the program prints now.\n"
-      "Regenerate the tables with `cmake/run.sh docs` (see DEVELOPERS.md) and commit them.\n"
-      "${difference}")
+    message(NOTICE "${difference}")
+    message(FATAL_ERROR "${DOC}: the table '${NAME}' differs from what the program prints now "
+      "(diff above). Regenerate the tables with `cmake/run.sh docs` (see DEVELOPERS.md) and commit them.")
   endif()
   message(STATUS "${DOC}: ${NAME} matches the program")
 else()

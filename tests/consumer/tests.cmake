@@ -26,3 +26,19 @@ add_test(NAME package.install COMMAND ${CMAKE_COMMAND}
   -P ${dqfx_consumer_src}/install.cmake)
 set_tests_properties(package.install PROPERTIES LABELS package FIXTURES_SETUP dqfx_installed)
 dqfx_add_consumer_test(find_package FIXTURES_REQUIRED dqfx_installed)
+
+# The firmware build of the same consumer from the installed package, with the installed
+# toolchain file (compiled and linked for Cortex-M4 with newlib's nosys stubs; not run).
+find_program(DQFX_CONSUMER_ARM_CXX arm-none-eabi-g++)
+if(DQFX_CONSUMER_ARM_CXX)
+  add_test(NAME package.find_package.cortex-m4 COMMAND ${CMAKE_CTEST_COMMAND}
+    --build-and-test ${dqfx_consumer_src} ${dqfx_consumer_bin}/find_package-cortex-m4
+    --build-generator ${CMAKE_GENERATOR}
+    --build-makeprogram ${CMAKE_MAKE_PROGRAM}
+    --build-options
+      -DCMAKE_TOOLCHAIN_FILE=${dqfx_consumer_prefix}/share/dqfx/cmake/toolchain-arm-none-eabi.cmake
+      -DDQFX_CONSUMER_MODE=find_package -DCMAKE_PREFIX_PATH=${dqfx_consumer_prefix}
+      "-DCMAKE_CXX_FLAGS=-mcpu=cortex-m4 -mthumb -mfpu=fpv4-sp-d16 -mfloat-abi=hard"
+      -DCMAKE_EXE_LINKER_FLAGS=--specs=nosys.specs)
+  set_tests_properties(package.find_package.cortex-m4 PROPERTIES LABELS package FIXTURES_REQUIRED dqfx_installed)
+endif()
