@@ -12,6 +12,8 @@
 #   FIRST    optional: the output from the first line that starts with this text
 #   STOP     optional: up to (not including) the first later line that starts with this text
 #   KEEP     optional: of those, only the lines that match this regular expression
+#   IGNORE   optional: lines that match this regular expression are written but not
+#            compared (e.g. the tool versions a report names)
 cmake_minimum_required(VERSION 3.20)
 foreach(var DOC NAME MODE)
   if(NOT DEFINED ${var})
@@ -98,7 +100,13 @@ if(MODE STREQUAL "update")
   file(WRITE ${DOC} "${head}${kept}\n${tail}")
   message(STATUS "${DOC}: ${NAME} regenerated")
 elseif(MODE STREQUAL "check")
-  if(NOT checked_in STREQUAL kept)
+  set(compared_now "${kept}")
+  set(compared_was "${checked_in}")
+  if(DEFINED IGNORE)
+    string(REGEX REPLACE "(^|\n)${IGNORE}[^\n]*" "\\1" compared_now "${compared_now}")
+    string(REGEX REPLACE "(^|\n)${IGNORE}[^\n]*" "\\1" compared_was "${compared_was}")
+  endif()
+  if(NOT compared_was STREQUAL compared_now)
     get_filename_component(doc_name ${DOC} NAME)
     set(now ${CMAKE_CURRENT_BINARY_DIR}/${doc_name}.${NAME}.now)
     set(was ${CMAKE_CURRENT_BINARY_DIR}/${doc_name}.${NAME}.checked-in)
