@@ -2,7 +2,8 @@
 # ctest script (cmake -P) for one compile-fail case. The case file names the diagnostic
 # it expects on a line `// expect: <text>` and guards the offending code with
 # `#ifdef DQFX_SHOULD_FAIL`. The case must compile without that macro (so the failure is
-# not a typo elsewhere) and must fail with it, printing the expected text.
+# not a typo elsewhere) and must fail with it, printing the expected text. An optional
+# line `// fail-flags: <flags>` adds flags to the failing compile only (e.g. an older -std).
 #   COMPILER     the C++ compiler
 #   FLAGS        '|'-separated compile flags
 #   INCLUDE_DIR  the include/ directory
@@ -22,13 +23,21 @@ endif()
 list(GET expect_lines 0 expected)
 string(REGEX REPLACE "^// expect: " "" expected "${expected}")
 
+file(STRINGS ${SOURCE} fail_flag_lines REGEX "^// fail-flags: ")
+set(fail_flags "")
+if(fail_flag_lines)
+  list(GET fail_flag_lines 0 fail_flags)
+  string(REGEX REPLACE "^// fail-flags: " "" fail_flags "${fail_flags}")
+  separate_arguments(fail_flags UNIX_COMMAND "${fail_flags}")
+endif()
+
 set(compile ${COMPILER} ${flags} -I${INCLUDE_DIR} -fsyntax-only ${SOURCE})
 execute_process(COMMAND ${compile} RESULT_VARIABLE rc OUTPUT_VARIABLE out ERROR_VARIABLE out)
 if(NOT rc EQUAL 0)
   message(FATAL_ERROR "the case does not compile even without DQFX_SHOULD_FAIL:\n${out}")
 endif()
 
-execute_process(COMMAND ${compile} -DDQFX_SHOULD_FAIL RESULT_VARIABLE rc OUTPUT_VARIABLE out ERROR_VARIABLE out)
+execute_process(COMMAND ${compile} -DDQFX_SHOULD_FAIL ${fail_flags} RESULT_VARIABLE rc OUTPUT_VARIABLE out ERROR_VARIABLE out)
 if(rc EQUAL 0)
   message(FATAL_ERROR "compiled, but must not: ${SOURCE}")
 endif()

@@ -13,3 +13,7 @@ write_basic_package_version_file(${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
   COMPATIBILITY SameMinorVersion ARCH_INDEPENDENT)
 install(FILES ${PROJECT_BINARY_DIR}/dqfxConfig.cmake ${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
   DESTINATION ${CMAKE_INSTALL_DATADIR}/dqfx/cmake)
+# The cross toolchain file, for firmware builds of the consumer:
+#   cmake -DCMAKE_TOOLCHAIN_FILE=<prefix>/share/dqfx/cmake/toolchain-arm-none-eabi.cmake ...
+install(FILES ${PROJECT_SOURCE_DIR}/cmake/toolchain-arm-none-eabi.cmake
+  DESTINATION ${CMAKE_INSTALL_DATADIR}/dqfx/cmake)

@@ -1,7 +1,9 @@
 #!/bin/sh
 # SPDX-License-Identifier: MIT
 # The README's quick start. `cmake/run.sh demo` runs the main program, `cmake/run.sh test`
-# runs the whole test suite. Each first installs the Debian packages it lacks (as root).
+# runs the whole test suite; `cmake/run.sh docs` rewrites the generated tables in README.md
+# and docs/ (accuracy report, demo table, Cortex-M report) from the programs. Each first
+# installs the Debian packages it lacks (as root).
 set -eu
 cd "$(dirname "$0")/.."
 
@@ -51,8 +53,16 @@ case "${1:-}" in
       cmake --workflow --preset "$workflow"
     done
     ;;
+  docs)
+    install_missing $test_packages
+    cmake --preset host >/dev/null
+    cmake --build --preset host --target dqfx_docs
+    cmake --preset cortex-m >/dev/null
+    cmake --build --preset cortex-m --target dqfx_docs_cortex_m
+    git diff --stat -- README.md docs 2>/dev/null || true
+    ;;
   *)
-    echo "usage: $0 demo|test" >&2
+    echo "usage: $0 demo|test|docs" >&2
     exit 2
     ;;
 esac

@@ -1,7 +1,7 @@
 // SPDX-License-Identifier: MIT
 // Prints, for every kernel and number type, the max and RMS error against the
-// independent long double reference of tests/reference/. The README's table of error
-// bounds is this program's output, pasted.
+// independent long double reference of tests/reference/. docs/accuracy.md holds this
+// program's output (`cmake/run.sh docs` writes it; the docs.table tests compare it).
 
 #include <cstdio>
 

@@ -4,7 +4,7 @@
 // modulation_waveforms.csv and, when gnuplot is installed, modulation_waveforms.png into
 // the directory given as the first argument (default: the current directory).
 //
-//   dqfx_modulation_waveforms examples/images   # regenerates the picture used in the README
+//   dqfx_modulation_waveforms examples/images   # regenerates the picture used in docs/
 
 #include <cmath>
 #include <cstdio>

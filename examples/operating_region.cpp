@@ -7,7 +7,7 @@
 // when gnuplot is installed, operating_region.png into the directory given as the first
 // argument (default: the current directory).
 //
-//   dqfx_operating_region examples/images   # regenerates the picture used in the README
+//   dqfx_operating_region examples/images   # regenerates the picture used in docs/
 
 #include <cmath>
 #include <cstdio>

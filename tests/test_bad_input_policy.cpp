@@ -1,9 +1,10 @@
 // SPDX-License-Identifier: MIT
-// The bad-input policy, one test case per line of it (the policy text is in README.md,
-// section "Bad input and fault flags"; the case names start with its line number). Each
-// case feeds the bad input named in its line to every kernel it concerns and checks the
-// defined answer. Lines whose answer is a compile-time error are proven by the cases in
-// tests/compile_fail/ named beside them.
+// The bad-input policy, one test case per policy (the policy text is in docs/bad-input.md;
+// each case name starts with the policy's stable identifier, e.g. `svm-non-finite:`, and
+// the docs.bad-input-ids test checks that the document and these cases name the same
+// identifiers). Each case feeds the bad input its policy names to every kernel it concerns
+// and checks the defined answer. Policies whose answer is a compile-time error are proven
+// by the cases in tests/compile_fail/ named beside them.
 
 #include <doctest/doctest.h>
 
@@ -69,7 +70,7 @@ template <class T> dqfx::current_loop_input<T> good_loop_input() {
 
 }  // namespace
 
-TEST_CASE_TEMPLATE("Policy 1: from_double maps NaN to zero and saturates out-of-range values and infinities", T, q15,
+TEST_CASE_TEMPLATE("conversion-out-of-range: from_double maps NaN to zero and saturates out-of-range values and infinities", T, q15,
                    q31, float, double) {
   CHECK(dqfx::from_double<T>(nan_double) == T{});
   CHECK(dqfx::from_double<T>(inf_double) == dqfx::number_traits<T>::max());
@@ -86,7 +87,7 @@ TEST_CASE_TEMPLATE("Policy 1: from_double maps NaN to zero and saturates out-of-
   CHECK(dqfx::from_double<T>(0.5) * dqfx::gain<T>::from_double(nan_double) == T{});
 }
 
-TEST_CASE_TEMPLATE("Policy 2: fixed-point arithmetic saturates on every raw input and never wraps", T, q15, q31) {
+TEST_CASE_TEMPLATE("fixed-saturates: fixed-point arithmetic saturates on every raw input and never wraps", T, q15, q31) {
   const T lo = T::lowest(), hi = T::max();
   CHECK(-lo == hi);
   CHECK(dqfx::abs(lo) == hi);
@@ -104,7 +105,7 @@ TEST_CASE_TEMPLATE("Policy 2: fixed-point arithmetic saturates on every raw inpu
   CHECK(acc.result() == hi);
 }
 
-TEST_CASE_TEMPLATE("Policy 3: angles: non-finite values give angle 0, finite ones wrap, NaN speeds do not move",
+TEST_CASE_TEMPLATE("angle-non-finite: angles: non-finite values give angle 0, finite ones wrap, NaN speeds do not move",
                    T, q15, q31, float, double) {
   for (double bad : {nan_double, inf_double, -inf_double, 1e300}) {
     CHECK(dqfx::angle::from_turns(bad).raw() == 0u);
@@ -125,7 +126,7 @@ TEST_CASE_TEMPLATE("Policy 3: angles: non-finite values give angle 0, finite one
   CHECK(dqfx::difference(rate.advance(a, dqfx::number_traits<T>::max()), a) == rate.step_raw(dqfx::number_traits<T>::max()));
 }
 
-TEST_CASE_TEMPLATE("Policy 4: sincos_of accepts every angle; q15/q31 results stay within [-max, max]", T, q15, q31) {
+TEST_CASE_TEMPLATE("sincos-range: sincos_of accepts every angle; q15/q31 results stay within [-max, max]", T, q15, q31) {
   for (std::uint32_t raw : {0u, 1u, 0x3FFFFFFFu, 0x40000000u, 0x7FFFFFFFu, 0x80000000u, 0xC0000000u, 0xFFFFFFFFu}) {
     const dqfx::sincos<T> r = dqfx::sincos_of<T>(dqfx::angle::from_raw(raw));
     CHECK(r.sin != T::lowest());
@@ -134,7 +135,7 @@ TEST_CASE_TEMPLATE("Policy 4: sincos_of accepts every angle; q15/q31 results sta
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 5: angle_of and magnitude: origin, saturation, NaN and infinity", T, q15, q31, float, double) {
+TEST_CASE_TEMPLATE("polar-edges: angle_of and magnitude: origin, saturation, NaN and infinity", T, q15, q31, float, double) {
   CHECK(dqfx::angle_of(dqfx::stationary<T>{}).raw() == 0u);
   CHECK(dqfx::magnitude(dqfx::stationary<T>{}) == T{});
   const T lo = dqfx::number_traits<T>::lowest();
@@ -156,7 +157,7 @@ TEST_CASE_TEMPLATE("Policy 5: angle_of and magnitude: origin, saturation, NaN an
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 6: transforms saturate in fixed point and pass non-finite floats on to the checks downstream",
+TEST_CASE_TEMPLATE("transform-non-finite: transforms saturate in fixed point and pass non-finite floats on to the checks downstream",
                    T, q15, q31, float, double) {
   const T hi = dqfx::number_traits<T>::max(), lo = dqfx::number_traits<T>::lowest();
   if constexpr (dqfx::is_fixed_v<T>) {
@@ -172,7 +173,7 @@ TEST_CASE_TEMPLATE("Policy 6: transforms saturate in fixed point and pass non-fi
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 7: svm gives 50 % on every phase, sector 0 and fault for an unusable command or bus", T,
+TEST_CASE_TEMPLATE("svm-non-finite: svm gives 50 % on every phase, sector 0 and fault for an unusable command or bus", T,
                    q15, q31, float, double) {
   const dqfx::stationary<T> command{dqfx::from_double<T>(0.2), dqfx::from_double<T>(0.1)};
   for (T bus : {T{}, dqfx::from_double<T>(-0.5), dqfx::number_traits<T>::lowest()}) {
@@ -198,7 +199,7 @@ TEST_CASE_TEMPLATE("Policy 7: svm gives 50 % on every phase, sector 0 and fault 
   CHECK((in_duty_range(big.duty.a) && in_duty_range(big.duty.b) && in_duty_range(big.duty.c)));
 }
 
-TEST_CASE_TEMPLATE("Policy 8: PWM compare values and dead-time compensation stay in range for any duty and current", T,
+TEST_CASE_TEMPLATE("pwm-range: PWM compare values and dead-time compensation stay in range for any duty and current", T,
                    q15, q31, float, double) {
   const dqfx::centre_aligned_pwm pwm{1000, 0};
   CHECK(pwm.compare(dqfx::number_traits<T>::lowest()) == 0u);
@@ -224,7 +225,7 @@ TEST_CASE_TEMPLATE("Policy 8: PWM compare values and dead-time compensation stay
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 9: a missing, railed or out-of-range ADC sample is flagged and never used", T, q15, q31,
+TEST_CASE_TEMPLATE("adc-bad-sample: a missing, railed or out-of-range ADC sample is flagged and never used", T, q15, q31,
                    float, double) {
   // Invented 12-bit converter, rails within 8 codes of either end.
   constexpr dqfx::adc_format adc{12, 8};
@@ -275,7 +276,7 @@ TEST_CASE_TEMPLATE("Policy 9: a missing, railed or out-of-range ADC sample is fl
   CHECK_FALSE(spread.accepted());
 }
 
-TEST_CASE_TEMPLATE("Policy 9: an ADC format outside 8..16 bits is a parameter fault: no usable sample, zero current",
+TEST_CASE_TEMPLATE("adc-format: an ADC format outside 8..16 bits is a parameter fault: no usable sample, zero current",
                    T, q15, q31, float, double) {
   for (unsigned bits : {0u, 7u, 17u, 32u, 4294967295u}) {
     const dqfx::adc_format adc{bits, 0};
@@ -309,7 +310,7 @@ TEST_CASE_TEMPLATE("Policy 9: an ADC format outside 8..16 bits is a parameter fa
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 10: the PI regulator refuses non-finite inputs and overflow, and orders its limits", T,
+TEST_CASE_TEMPLATE("pi-bad-input: the PI regulator refuses non-finite inputs and overflow, and orders its limits", T,
                    q15, q31, float, double) {
   dqfx::pi_regulator<T> pi{dqfx::pi_parameters{0.8, 0.05, 0.5, -0.5, 0.5}};
   pi.preload(dqfx::from_double<T>(0.2));
@@ -364,7 +365,7 @@ TEST_CASE_TEMPLATE("Policy 10: the PI regulator refuses non-finite inputs and ov
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 11: the current loop gives 50 % duties, zero voltage and fault on bad input", T, q15, q31,
+TEST_CASE_TEMPLATE("current-loop-bad-input: the current loop gives 50 % duties, zero voltage and fault on bad input", T, q15, q31,
                    float, double) {
   dqfx::current_loop<T> loop{loop_parameters()};
   loop.step(good_loop_input<T>());
@@ -450,7 +451,7 @@ template <class T> bool not_nan(T v) {
 
 }  // namespace
 
-TEST_CASE_TEMPLATE("Policy 12: an estimator whose base speed moves less than 2^-32 turn or at least half a turn "
+TEST_CASE_TEMPLATE("estimator-design: an estimator whose base speed moves less than 2^-32 turn or at least half a turn "
                    "per sample raises parameter_fault and gives speed 0",
                    T, q15, q31, float, double) {
   // 1e-300 makes the float speed scale 1/(base_speed * Ts) overflow (0 * infinity was NaN).
@@ -491,7 +492,7 @@ TEST_CASE_TEMPLATE("Policy 12: an estimator whose base speed moves less than 2^-
   CHECK_FALSE(dqfx::flux_observer<T>{observer_design(est_base)}.parameter_fault());
 }
 
-TEST_CASE_TEMPLATE("Policy 12: an encoder or Hall capture timer that is negative, NaN or wraps within a sample "
+TEST_CASE_TEMPLATE("capture-timer-design: an encoder or Hall capture timer that is negative, NaN or wraps within a sample "
                    "raises parameter_fault",
                    T, q15, q31, float, double) {
   for (double ticks : {-1.0, nan_double, inf_double, 2 * 4294967296.0 / est_ts, 1e300}) {
@@ -506,7 +507,7 @@ TEST_CASE_TEMPLATE("Policy 12: an encoder or Hall capture timer that is negative
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 12: a tracking PLL or flux observer reset with a NaN or infinite speed raises "
+TEST_CASE_TEMPLATE("estimator-reset-non-finite: a tracking PLL or flux observer reset with a NaN or infinite speed raises "
                    "input_fault and restarts at speed 0",
                    T, float, double) {
   for (T bad : non_finite<T>) {
@@ -525,7 +526,7 @@ TEST_CASE_TEMPLATE("Policy 12: a tracking PLL or flux observer reset with a NaN 
   }
 }
 
-TEST_CASE_TEMPLATE("Policy 12: the float flux observer saturates where the q31 state does: any finite input gives "
+TEST_CASE_TEMPLATE("flux-observer-saturates: the float flux observer saturates where the q31 state does: any finite input gives "
                    "a finite flux and speed",
                    T, float, double) {
   constexpr T big = std::numeric_limits<T>::max();

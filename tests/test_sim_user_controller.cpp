@@ -1,5 +1,5 @@
 // SPDX-License-Identifier: MIT
-// Worked example (README): your own controller under the simulator in a doctest test.
+// Worked example (docs/simulator.md): your own controller under the simulator in a doctest test.
 // `my_controller` stands for the code you ship: your number type, scaling and kernels.
 // The test gives it a motor, a board and a scenario, runs it, and judges the recording.
 // The motor and board data are invented.

@@ -3,6 +3,8 @@
 /// \file
 /// The three reference frames of field-oriented control, and a sine/cosine pair.
 
+#include "dqfx/detail/language.hpp"
+
 namespace dqfx {
 
 /// Three phase quantities (currents, voltages or duties).

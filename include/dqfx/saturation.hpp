@@ -13,6 +13,8 @@
 
 #include <cstdint>
 
+#include "dqfx/detail/language.hpp"
+
 namespace dqfx {
 
 #if defined(DQFX_COUNT_SATURATION) || defined(DQFX_TRAP_SATURATION)

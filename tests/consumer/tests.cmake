@@ -1,7 +1,8 @@
 # SPDX-License-Identifier: MIT
 # Packaging tests (label `package`): the consumer project in this folder builds and runs
 # against dqfx used through add_subdirectory, FetchContent from the local source tree, and
-# find_package(dqfx CONFIG) after `cmake --install` of this build into a scratch prefix.
+# find_package(dqfx CONFIG) after a plain configure and `cmake --install` of this source
+# tree into a scratch prefix (tests/consumer/install.cmake).
 set(dqfx_consumer_src ${CMAKE_CURRENT_LIST_DIR})
 set(dqfx_consumer_bin ${CMAKE_CURRENT_BINARY_DIR}/consumer)
 set(dqfx_consumer_prefix ${dqfx_consumer_bin}/prefix)
@@ -19,10 +20,25 @@ endfunction()
 
 dqfx_add_consumer_test(subdirectory)
 dqfx_add_consumer_test(fetchcontent)
-if(DQFX_INSTALL)
-  add_test(NAME package.install COMMAND ${CMAKE_COMMAND}
-    -DBUILD_DIR=${PROJECT_BINARY_DIR} -DPREFIX=${dqfx_consumer_prefix}
-    -P ${dqfx_consumer_src}/install.cmake)
-  set_tests_properties(package.install PROPERTIES LABELS package FIXTURES_SETUP dqfx_installed)
-  dqfx_add_consumer_test(find_package FIXTURES_REQUIRED dqfx_installed)
+add_test(NAME package.install COMMAND ${CMAKE_COMMAND}
+  -DSOURCE_DIR=${PROJECT_SOURCE_DIR} -DSCRATCH=${dqfx_consumer_bin}/plain -DPREFIX=${dqfx_consumer_prefix}
+  -DCXX=${CMAKE_CXX_COMPILER} -DGENERATOR=${CMAKE_GENERATOR} -DMAKE_PROGRAM=${CMAKE_MAKE_PROGRAM}
+  -P ${dqfx_consumer_src}/install.cmake)
+set_tests_properties(package.install PROPERTIES LABELS package FIXTURES_SETUP dqfx_installed)
+dqfx_add_consumer_test(find_package FIXTURES_REQUIRED dqfx_installed)
+
+# The firmware build of the same consumer from the installed package, with the installed
+# toolchain file (compiled and linked for Cortex-M4 with newlib's nosys stubs; not run).
+find_program(DQFX_CONSUMER_ARM_CXX arm-none-eabi-g++)
+if(DQFX_CONSUMER_ARM_CXX)
+  add_test(NAME package.find_package.cortex-m4 COMMAND ${CMAKE_CTEST_COMMAND}
+    --build-and-test ${dqfx_consumer_src} ${dqfx_consumer_bin}/find_package-cortex-m4
+    --build-generator ${CMAKE_GENERATOR}
+    --build-makeprogram ${CMAKE_MAKE_PROGRAM}
+    --build-options
+      -DCMAKE_TOOLCHAIN_FILE=${dqfx_consumer_prefix}/share/dqfx/cmake/toolchain-arm-none-eabi.cmake
+      -DDQFX_CONSUMER_MODE=find_package -DCMAKE_PREFIX_PATH=${dqfx_consumer_prefix}
+      "-DCMAKE_CXX_FLAGS=-mcpu=cortex-m4 -mthumb -mfpu=fpv4-sp-d16 -mfloat-abi=hard"
+      -DCMAKE_EXE_LINKER_FLAGS=--specs=nosys.specs)
+  set_tests_properties(package.find_package.cortex-m4 PROPERTIES LABELS package FIXTURES_REQUIRED dqfx_installed)
 endif()
