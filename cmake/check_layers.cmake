@@ -10,7 +10,7 @@ if(NOT DEFINED INCLUDE_DIR)
 endif()
 
 # 1 numbers, 2 functions and design data, 3 kernels, 4 composed, 5 drive, 6 the umbrella.
-set(layer_1 saturation fixed number extended frames detail/square_root detail/estimation)
+set(layer_1 detail/language saturation fixed number extended frames detail/square_root detail/estimation)
 set(layer_2 angle sincos polar gain_design per_unit)
 set(layer_3 transforms svm pwm current_sensing pi_regulator)
 set(layer_4 current_loop torque_setpoint field_weakening encoder hall hall_learner tracking_pll

@@ -552,3 +552,55 @@ TEST_CASE_TEMPLATE("flux-observer-saturates: the float flux observer saturates w
   }
   CHECK_FALSE(dqfx::flux_observer<T>{observer_design(est_base, 1e-3)}.parameter_fault());
 }
+
+namespace {
+// Invented: 10,000 counts per turn, 7 pole pairs, 12 kHz, speed 1.0 = 500 Hz electrical:
+// 59.5 counts per sample at max_speed 1.0 (largest accepted step 60).
+dqfx::encoder_parameters glitch_drive() {
+  dqfx::encoder_parameters p{};
+  p.counts_per_turn = 10000;
+  p.pole_pairs = 7;
+  p.base_speed = 6.283185307179586 * 500;
+  p.sample_time = 1.0 / 12000;
+  p.max_rejected = 8;
+  return p;
+}
+}  // namespace
+
+TEST_CASE_TEMPLATE("encoder-glitch: a glitch of n samples is rejected and costs exactly n samples at max_speed", T, q15,
+                   q31, float, double) {
+  dqfx::encoder<T> e{glitch_drive()};
+  std::uint32_t count = 100;
+  for (int k = 0; k < 100; ++k) e.update(count += 59);
+  const dqfx::angle held = e.electrical_angle();
+  for (int n = 0; n < 5; ++n) {  // five samples of a +20,000-count glitch at full speed
+    count += 59;
+    e.update((count + 20000u) & 0xFFFFu);
+    CHECK(e.jump());
+    CHECK(e.electrical_angle() == held);
+  }
+  e.update((count += 59) & 0xFFFFu);  // six samples of travel since the last good reading
+  CHECK_FALSE(e.jump());
+  CHECK(e.valid());
+  CHECK(e.fault());
+  CHECK(e.position() == (count % 10000u));
+}
+
+TEST_CASE_TEMPLATE("encoder-lost: after max_rejected bad readings the encoder is lost until index() or reset()", T, q15,
+                   q31, float, double) {
+  dqfx::encoder<T> e{glitch_drive()};
+  std::uint32_t count = 100;
+  for (int k = 0; k < 100; ++k) e.update(count += 59);
+  for (int n = 0; n < 8; ++n) e.update((count += 59) + 20000u);
+  CHECK(e.lost());
+  CHECK_FALSE(e.valid());
+  for (int n = 0; n < 3000; ++n) e.update((count += 59) & 0xFFFFu);  // good readings, many wraps
+  CHECK(e.lost());
+  e.index(count & 0xFFFFu);
+  CHECK(e.valid());
+  CHECK(e.position() == 0);  // index_position
+  e.reset();
+  CHECK_FALSE(e.valid());
+  e.update(count & 0xFFFFu);
+  CHECK(e.valid());
+}
