@@ -12,5 +12,5 @@ configure_package_config_file(${PROJECT_SOURCE_DIR}/cmake/dqfxConfig.cmake.in
 write_basic_package_version_file(${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
   COMPATIBILITY SameMinorVersion ARCH_INDEPENDENT)
 install(FILES ${PROJECT_BINARY_DIR}/dqfxConfig.cmake ${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
-  ${PROJECT_SOURCE_DIR}/cmake/dqfxCortexM.cmake
+  ${PROJECT_SOURCE_DIR}/cmake/dqfxCortexM.cmake ${PROJECT_SOURCE_DIR}/cmake/toolchain-arm-none-eabi.cmake
   DESTINATION ${CMAKE_INSTALL_DATADIR}/dqfx/cmake)

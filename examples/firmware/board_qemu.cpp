@@ -43,7 +43,7 @@ std::uintptr_t semihost(std::uintptr_t operation, const void* argument) noexcept
 // With QEMU's -icount shift=0 every instruction advances the virtual clock by the same
 // amount: count the ticks of a block of NOPs once to turn ticks into instructions.
 // A function of its own: the caller's literal pool stays within reach.
-__attribute__((noinline)) void nop_block() noexcept { asm volatile(".rept 4000\n\tnop\n\t.endr"); }
+__attribute__((noinline)) void nop_block() noexcept { asm volatile(".rept 1000\n\tnop\n\t.endr"); }
 
 void calibrate_ticks() noexcept {
   systick_control() = 0;
@@ -53,7 +53,7 @@ void calibrate_ticks() noexcept {
   const std::uint32_t start = systick_value();
   nop_block();
   const std::uint32_t ticks = (start - systick_value()) & 0xFFFFFFu;
-  constexpr std::uint32_t instructions = 4002;  // bl, 4000 nops, bx lr
+  constexpr std::uint32_t instructions = 1002;  // bl, 1000 nops, bx lr
   instructions_per_tick = ticks > 0 ? (instructions + ticks / 2) / ticks : 1;
   systick_control() = 0;
 }
