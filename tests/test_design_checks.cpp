@@ -9,6 +9,8 @@
 #include <limits>
 
 #include "dqfx/current_loop.hpp"
+#include "dqfx/field_weakening.hpp"
+#include "dqfx/torque_setpoint.hpp"
 #include "dqfx/per_unit.hpp"
 
 namespace {
@@ -53,4 +55,16 @@ TEST_CASE("Design checks are constant expressions where the design is") {
   static_assert(p.check().ok());
   static_assert(dqfx::detail::refuse_unless(true, dqfx::detail::refused::per_unit_flux, 0.5));
   CHECK(true);
+}
+
+TEST_CASE("design_torque_setpoint and design_field_weakening: check() at run time") {
+  const dqfx::per_unit_base base{20.0, at_run_time(60.0), 6283.0, 4};
+  const dqfx::pm_motor_data motor{0.1, 0.2e-3, 0.3e-3, 0.004};
+  CHECK(dqfx::design_torque_setpoint(base, motor, 15.0).check().ok());
+  const dqfx::design_check limit = dqfx::design_torque_setpoint(base, motor, at_run_time(30.0)).check();
+  CHECK(names(limit, "per-unit current limit"));
+  CHECK(limit.value == 1.5);
+  CHECK(dqfx::design_field_weakening(base, motor, 5000.0, 2 * pi * 60, 500e-6).check().ok());
+  CHECK(names(dqfx::design_field_weakening(base, motor, at_run_time(0.0), 2 * pi * 60, 500e-6).check(),
+              "field-weakening gain"));
 }

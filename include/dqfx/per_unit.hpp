@@ -123,6 +123,8 @@ inline constexpr char per_unit_flux[1] = {};
 inline constexpr char regulator_kp[1] = {};
 inline constexpr char regulator_ki[1] = {};
 inline constexpr char per_unit_value[1] = {};
+inline constexpr char per_unit_current_limit[1] = {};
+inline constexpr char field_weakening_gain[1] = {};
 }  // namespace refused
 
 /// v in [0, limit) (NaN is not).
