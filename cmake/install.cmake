@@ -11,9 +11,8 @@ configure_package_config_file(${PROJECT_SOURCE_DIR}/cmake/dqfxConfig.cmake.in
 # Header-only: any architecture may consume the package.
 write_basic_package_version_file(${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
   COMPATIBILITY SameMinorVersion ARCH_INDEPENDENT)
-install(FILES ${PROJECT_BINARY_DIR}/dqfxConfig.cmake ${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
-  DESTINATION ${CMAKE_INSTALL_DATADIR}/dqfx/cmake)
-# The cross toolchain file, for firmware builds of the consumer:
+# With the package: the per-core flags (dqfx_target_cortex_m) and the cross toolchain file,
 #   cmake -DCMAKE_TOOLCHAIN_FILE=<prefix>/share/dqfx/cmake/toolchain-arm-none-eabi.cmake ...
-install(FILES ${PROJECT_SOURCE_DIR}/cmake/toolchain-arm-none-eabi.cmake
+install(FILES ${PROJECT_BINARY_DIR}/dqfxConfig.cmake ${PROJECT_BINARY_DIR}/dqfxConfigVersion.cmake
+  ${PROJECT_SOURCE_DIR}/cmake/dqfxCortexM.cmake ${PROJECT_SOURCE_DIR}/cmake/toolchain-arm-none-eabi.cmake
   DESTINATION ${CMAKE_INSTALL_DATADIR}/dqfx/cmake)

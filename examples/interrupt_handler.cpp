@@ -26,9 +26,11 @@ constexpr dqfx::current_loop_parameters parameters =
     dqfx::design_current_loop(base, motor, 2 * pi * 500, sample_time);
 constexpr dqfx::adc_format adc{12, 8};
 constexpr auto shunt = dqfx::current_channel<number>::from_amplifier(adc, -0.0122, base.base_current);
-constexpr double volts_per_code = 0.0183;
+// Bus voltage: a divider giving 0.0183 V per code, trips below 30 V and above 56 V.
+constexpr auto bus = dqfx::voltage_channel<number>::from_divider(adc, 0.0183, base.base_voltage).with_limits(30.0, 56.0);
 constexpr dqfx::centre_aligned_pwm timer{2100, 20};
 // Rotor angle and speed from the position sensor (here: an encoder angle per period).
+constexpr number example_speed = dqfx::from_double<number>(0.2);
 constexpr auto speed_step = dqfx::angle_rate<number>::from_base(base.base_speed, sample_time);
 
 // The state the handler owns. A constexpr-constructible loop is constant-initialised:
@@ -52,11 +54,13 @@ struct registers {
 extern "C" void pwm_period_handler() {
   dqfx::current_loop_input<number> in;
   in.current = {shunt.current(hw.adc_a), shunt.current(hw.adc_b), shunt.current(hw.adc_c)};
-  in.speed = dqfx::from_double<number>(0.2);  // from the speed estimate in a real drive
+  in.speed = example_speed;  // from the speed estimate in a real drive
   rotor = speed_step.advance(rotor, in.speed);
   in.rotor = dqfx::sincos_of<number>(rotor);
   in.setpoint = {number{}, number::from_raw(iq_setpoint_raw)};
-  in.bus_voltage = dqfx::from_double<number>(hw.adc_bus * volts_per_code / base.base_voltage);
+  // Integer arithmetic for q15/q31: no double in the interrupt. A missing, railed or
+  // out-of-limit reading gives 0, which the loop answers with its fault.
+  in.bus_voltage = bus.read({hw.adc_bus, true}).voltage;
 
   const dqfx::current_loop_output<number> out = loop.step(in);
 

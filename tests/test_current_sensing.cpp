@@ -236,3 +236,92 @@ TEST_CASE("Current conversion is a constant expression") {
   static_assert(channel.current(2048 + 1024).raw() == 8192);  // 1024 codes * 0.01 A = 10.24 A = 0.25 pu
   CHECK(channel.current(2048).raw() == 0);
 }
+
+// The bus voltage. An invented divider: 40 V at the full 12-bit scale (40/4096 V per code,
+// a power of two ratio so that the test's own arithmetic is exact), base voltage 32 V. The
+// reference is the definition of an ideal divider and converter, V = (code - zero) *
+// volts_per_code (common practice), in long double.
+namespace {
+constexpr double bus_volts_per_code = 40.0 / 4096.0;
+constexpr double bus_base = 32.0;
+}  // namespace
+
+TEST_CASE_TEMPLATE("Bus voltage: every code against (code - zero) * volts_per_code / base", T, q15, q31, float, double) {
+  for (const std::uint16_t zero : {std::uint16_t{0}, std::uint16_t{37}}) {
+    for (const unsigned bits : {8u, 12u, 15u, 16u}) {
+      const real per_code = 40.0L / static_cast<real>(1u << bits);
+      const auto channel = dqfx::voltage_channel<T>::from_divider(dqfx::adc_format{bits, 0},
+                                                                  static_cast<double>(per_code), bus_base, zero);
+      REQUIRE_FALSE(channel.parameter_fault());
+      const real gain = per_code * static_cast<real>(1u << bits) / bus_base;
+      // q15 with 16-bit codes rounds the code to 15 bits first (a half LSB, times the gain).
+      const real bound = dqfx::is_fixed_v<T>
+                             ? unit<T>() * (0.5L + (bits == 16 && std::is_same_v<T, q15> ? 0.5L * gain : 0.0L)) +
+                                   gain * std::ldexp(1.0L, -30)
+                             : 2 * unit<T>() * gain;
+      real worst = 0;
+      int outside = 0, high_wrong = 0;
+      for (std::uint32_t code = 0; code < (1u << bits); ++code) {
+        const real exact = (static_cast<real>(code) - zero) * per_code / bus_base;
+        const auto m = channel.read({static_cast<std::uint16_t>(code), true});
+        // Fixed point holds values below 1 only: from the code of the base voltage on, high.
+        const bool beyond = dqfx::is_fixed_v<T> && exact >= 1.0L;
+        const bool below = code < zero;
+        // Codes 0 and the largest are rails even with a zero margin (adc_format::railed).
+        const bool rail = code == 0 || code == (1u << bits) - 1;
+        high_wrong += rail ? (m.railed && !m.valid ? 0 : 1)
+                           : ((m.high != beyond) || (m.low != below) || (m.valid != (!beyond && !below)) ? 1 : 0);
+        if (!m.valid) continue;
+        const real e = std::fabs(value_of(m.voltage) - exact);
+        worst = e > worst ? e : worst;
+        outside += e > bound ? 1 : 0;
+      }
+      CAPTURE(bits);
+      CAPTURE(zero);
+      CAPTURE(worst / unit<T>());
+      CHECK(outside == 0);
+      CHECK(high_wrong == 0);
+    }
+  }
+}
+
+TEST_CASE_TEMPLATE("Bus voltage: rails, missing samples and the limits are flagged", T, q15, q31, float, double) {
+  const auto channel = dqfx::voltage_channel<T>::from_divider(dqfx::adc_format{12, 8}, bus_volts_per_code, bus_base)
+                           .with_limits(12.0, 30.0);
+  // 12 V is 1228.8 codes (the first code at or above: 1229), 30 V exactly 3072 (included).
+  CHECK(channel.lower_code() == 1229);
+  CHECK(channel.upper_code() == 3072);
+  const auto at = [&](std::uint16_t code) { return channel.read({code, true}); };
+  CHECK((at(1228).low && !at(1228).valid && value_of(at(1228).voltage) == 0));
+  CHECK((at(1229).valid && !at(1229).low));
+  CHECK((at(3072).valid && !at(3072).high));
+  CHECK((at(3073).high && !at(3073).valid));
+  CHECK((at(8).railed && !at(8).valid && !at(8).low));
+  CHECK((at(4095 - 8).railed && !at(4095 - 8).high));
+  CHECK((at(4096).railed && !at(4096).valid));  // beyond the largest 12-bit code
+  const auto missing = channel.read({2458, false});
+  CHECK((missing.missing && !missing.valid && value_of(missing.voltage) == 0));
+  // Limits beyond what the type holds stay at the type's range.
+  const auto wide = dqfx::voltage_channel<T>::from_divider(dqfx::adc_format{12, 0}, bus_volts_per_code, bus_base)
+                        .with_limits(-5.0, 100.0);
+  CHECK(wide.lower_code() == 0);
+  CHECK(wide.upper_code() == (dqfx::is_fixed_v<T> ? 3276 : 4095));
+}
+
+TEST_CASE_TEMPLATE("Bus voltage: a bad design reads nothing", T, q15, q31, float, double) {
+  volatile double zero_scale = 0.0;  // run time: no compile-time refusal
+  const auto no_scale = dqfx::voltage_channel<T>::from_divider(dqfx::adc_format{12, 0}, zero_scale, bus_base);
+  const auto no_format = dqfx::voltage_channel<T>::from_divider(dqfx::adc_format{20, 0}, bus_volts_per_code, bus_base);
+  for (const auto& c : {no_scale, no_format}) {
+    CHECK(c.parameter_fault());
+    const auto m = c.read({2000, true});
+    CHECK((!m.valid && m.railed && value_of(m.voltage) == 0));
+  }
+}
+
+TEST_CASE("Bus voltage conversion is a constant expression") {
+  constexpr auto channel = dqfx::voltage_channel<q15>::from_divider(dqfx::adc_format{12, 8}, bus_volts_per_code, bus_base);
+  // 2458 codes = 24.00390625 V = 0.75012207 per unit = 24580.0 q15 LSB.
+  static_assert(channel.read({2458, true}).voltage.raw() == 24580);
+  static_assert(channel.read({2458, true}).valid);
+}

@@ -417,3 +417,142 @@ TEST_CASE_TEMPLATE("abs and the operators: float and double are plain IEEE arith
   CHECK(std::isinf(std::numeric_limits<T>::max() + std::numeric_limits<T>::max()));
   CHECK(dqfx::from_double<T>(0.5) * dqfx::from_double<T>(0.5) == T(0.25));
 }
+
+// convert<To>(From): references written from the definitions. q31 -> q15 is the raw value
+// over 2^16 rounded half away from zero by roundl (ISO/IEC 9899:2011, 7.12.9.6), clamped;
+// fixed -> float is the exact value rounded to float by the compiler's long double ->
+// float conversion, which rounds to nearest, ties to even (IEEE 754-2008 default rounding;
+// section numbers recalled from memory, so not given).
+TEST_CASE("convert: q15 -> q31 is exact for all 65536 values, and back is the identity") {
+  int wrong = 0;
+  for (std::int32_t r = -32768; r <= 32767; ++r) {
+    const q15 x = raw<q15>(r);
+    const q31 wide = dqfx::convert<q31>(x);
+    wrong += wide.raw() != r * 65536 ? 1 : 0;
+    wrong += dqfx::convert<q15>(wide).raw() != r ? 1 : 0;
+    wrong += dqfx::convert<double>(x) != static_cast<double>(r) / 32768.0 ? 1 : 0;
+    wrong += dqfx::convert<float>(x) != static_cast<float>(r) / 32768.0f ? 1 : 0;
+  }
+  CHECK(wrong == 0);
+}
+
+TEST_CASE("convert: q31 -> q15 rounds to nearest, ties away from zero, and saturates") {
+  std::mt19937_64 rng(15);
+  std::vector<std::int32_t> raws;
+  for (auto r : corner_raws<q31>()) raws.push_back(r);
+  for (std::int64_t t = -32768; t <= 32767; t += 257) {  // ties and their neighbours
+    for (std::int64_t d : {-1, 0, 1}) {
+      const std::int64_t r = t * 65536 + 32768 + d;
+      if (r >= INT32_MIN && r <= INT32_MAX) raws.push_back(static_cast<std::int32_t>(r));
+      const std::int64_t n = t * 65536 - 32768 + d;
+      if (n >= INT32_MIN && n <= INT32_MAX) raws.push_back(static_cast<std::int32_t>(n));
+    }
+  }
+  for (int i = 0; i < 1000000; ++i) raws.push_back(random_raw<q31>(rng));
+  int wrong = 0, differs_from_double = 0;
+  for (const std::int32_t r : raws) {
+    const long double q = std::roundl(static_cast<long double>(r) / 65536.0L);
+    const long double clamped = q > 32767 ? 32767 : (q < -32768 ? -32768 : q);
+    const q15 got = dqfx::convert<q15>(raw<q31>(r));
+    wrong += got.raw() != static_cast<std::int16_t>(clamped) ? 1 : 0;
+    differs_from_double += got.raw() != dqfx::from_double<q15>(dqfx::to_double(raw<q31>(r))).raw() ? 1 : 0;
+  }
+  CHECK(wrong == 0);
+  CHECK(differs_from_double == 0);
+  CHECK(dqfx::convert<q15>(q31::max()).raw() == 32767);
+  CHECK(dqfx::convert<q15>(q31::lowest()).raw() == -32768);
+}
+
+TEST_CASE_TEMPLATE("convert: q31 -> float and double, one rounding to nearest even", T, float, double) {
+  std::mt19937_64 rng(31);
+  int wrong = 0;
+  auto check = [&](std::int32_t r) {
+    const long double exact = static_cast<long double>(r) / 2147483648.0L;
+    wrong += dqfx::convert<T>(raw<q31>(r)) != static_cast<T>(exact) ? 1 : 0;
+  };
+  for (auto r : corner_raws<q31>()) check(r);
+  for (std::int32_t r : {0x00FFFFFF, 0x01000001, 0x7FFFFFBF, 0x7FFFFFC0, 0x40000040, 0x40000080, 0x400000C0})
+    check(r);  // float ties: 25 significant bits with the last one set
+  for (int i = 0; i < 1000000; ++i) check(random_raw<q31>(rng));
+  CHECK(wrong == 0);
+}
+
+TEST_CASE("convert: float and double to fixed point and to each other follow from_double") {
+  const double values[] = {0.0, -0.0, 0.25, -1.0, 0.999999, 1.0, -1.5, 1e-12, 3e38, 1e39, -1e300, infinity, not_a_number};
+  int wrong = 0;
+  for (const double v : values) {
+    wrong += dqfx::convert<q15>(v).raw() != dqfx::from_double<q15>(v).raw() ? 1 : 0;
+    wrong += dqfx::convert<q31>(v).raw() != dqfx::from_double<q31>(v).raw() ? 1 : 0;
+    const float f = dqfx::convert<float>(v);
+    const float expected = dqfx::from_double<float>(v);
+    wrong += std::memcmp(&f, &expected, sizeof f) != 0 ? 1 : 0;
+    if (!std::isnan(v) && std::fabs(v) <= FLT_MAX)
+      wrong += dqfx::convert<double>(static_cast<float>(v)) != static_cast<double>(static_cast<float>(v)) ? 1 : 0;
+  }
+  CHECK(wrong == 0);
+}
+
+TEST_CASE("convert is a constant expression") {
+  static_assert(dqfx::convert<q31>(q15::from_raw(-32768)).raw() == INT32_MIN);
+  static_assert(dqfx::convert<q15>(q31::from_raw(0x8000)).raw() == 1);    // half: away from zero
+  static_assert(dqfx::convert<q15>(q31::from_raw(-0x8000)).raw() == -1);
+  static_assert(dqfx::convert<q15>(q31::from_raw(0x7FFF)).raw() == 0);
+  static_assert(dqfx::convert<double>(q15::from_raw(16384)) == 0.5);
+  CHECK(true);
+}
+
+TEST_CASE_TEMPLATE("checked_from_double: NaN and infinities are reported, with value 0", T, q15, q31, float, double) {
+  for (const double v : {not_a_number, -not_a_number, infinity, -infinity}) {
+    const dqfx::checked<T> c = dqfx::checked_from_double<T>(v);
+    CHECK(c.status == dqfx::conversion_status::not_finite);
+    CHECK_FALSE(c.ok());
+    CHECK(dqfx::to_double(c.value) == 0.0);
+  }
+}
+
+TEST_CASE_TEMPLATE("checked_from_double: the range edge is where from_double starts to saturate", T, q15, q31) {
+  const double lsb = dqfx::number_traits<T>::lsb;
+  const double max = dqfx::to_double(T::max());
+  struct expectation {
+    double v;
+    bool ok;
+  };
+  // Within half an LSB beyond max() and lowest() the value still rounds into the range,
+  // except the ties, which round away from zero and out.
+  const expectation cases[] = {{0.0, true},
+                               {max, true},
+                               {max + lsb / 4, true},
+                               {max + lsb / 2, false},
+                               {1.0, false},
+                               {-1.0, true},
+                               {-1.0 - lsb / 4, true},
+                               {-1.0 - lsb / 2, false},
+                               {-2.0, false},
+                               {1e300, false}};
+  for (const auto& e : cases) {
+    const dqfx::checked<T> c = dqfx::checked_from_double<T>(e.v);
+    CAPTURE(e.v);
+    CHECK(c.ok() == e.ok);
+    CHECK(c.status == (e.ok ? dqfx::conversion_status::ok : dqfx::conversion_status::out_of_range));
+    CHECK(c.value.raw() == reference_from_double<T>(e.v));
+  }
+}
+
+TEST_CASE("checked_from_double: float and double ranges; a float value widens exactly") {
+  CHECK(dqfx::checked_from_double<float>(3.0e38).ok());
+  const auto big = dqfx::checked_from_double<float>(1e39);
+  CHECK(big.status == dqfx::conversion_status::out_of_range);
+  CHECK(big.value == FLT_MAX);
+  CHECK(dqfx::checked_from_double<float>(-1e39).value == -FLT_MAX);
+  CHECK(dqfx::checked_from_double<double>(1e300).ok());
+  const float reading = 0.1f;
+  CHECK(dqfx::checked_from_double<float>(reading).value == reading);
+  static_assert(dqfx::checked_from_double<q15>(0.5).value.raw() == 16384);
+  static_assert(dqfx::checked_from_double<q15>(2.0).status == dqfx::conversion_status::out_of_range);
+}
+
+TEST_CASE("from_double: NaN gives 0 for every type, float and double included (the documented choice)") {
+  CHECK(dqfx::from_double<float>(not_a_number) == 0.0f);
+  CHECK(dqfx::from_double<double>(not_a_number) == 0.0);
+  CHECK(dqfx::from_double<q15>(not_a_number).raw() == 0);
+}

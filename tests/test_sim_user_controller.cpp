@@ -10,6 +10,7 @@
 
 #include "dqfx/current_loop.hpp"
 #include "dqfx/current_sensing.hpp"
+#include "dqfx/encoder.hpp"
 #include "dqfx/pi_regulator.hpp"
 #include "dqfx/sincos.hpp"
 #include "dqfx_sim/sim.hpp"
@@ -35,38 +36,54 @@ constexpr dqfx::pi_parameters speed_gains = [] {
   return p;
 }();
 
-// Your controller: the current loop every PWM period, the speed loop every 10th, the angle
-// from a 4096-count encoder, the currents from 12-bit ADC codes (10 mA per code).
+// The encoder: 4096 counts per turn on a free-running 32-bit counter, speed by counting
+// over 16 periods above 2% of the base speed and by edge timing below, a 300 Hz filter.
+constexpr dqfx::encoder_parameters encoder_design = [] {
+  dqfx::encoder_parameters e{};
+  e.counts_per_turn = 4096;
+  e.pole_pairs = 4;
+  e.counter_period = 0;  // 2^32
+  e.base_speed = base.base_speed;
+  e.sample_time = 1 / pwm_hz;
+  e.switch_speed = 0.02;
+  e.filter_bandwidth = 2 * pi * 300;
+  return e;
+}();
+
+// Your controller: the current loop every PWM period, the speed loop every 10th, angle and
+// speed from the library's encoder, the currents from 12-bit ADC codes (10 mA per code),
+// the bus voltage from the reading, checked. Its own fault goes to the probe, so that the
+// simulator records it per period.
 class my_controller {
  public:
   dqfx::phases<number> operator()(const sim::readings& r, const sim::command& c, sim::probe& probe) {
-    const dqfx::angle rotor = dqfx::electrical(dqfx::angle::from_raw(r.encoder_count << 20), 4);
+    encoder_.update(r.encoder_count);
     if (period_++ % 10 == 0) {
-      // Half-turns travelled in 0.5 ms, times 2.0, is the electrical speed in per unit.
-      const std::int32_t moved = dqfx::difference(rotor, last_);
-      last_ = rotor;
-      speed_ = number::from_raw(static_cast<std::int16_t>(moved / 65536)) * speed_scale_;
       const number setpoint = dqfx::from_double<number>(c.speed * 4 / base.base_speed);
-      iq_ = speed_loop_.step(setpoint - speed_);
+      iq_ = speed_loop_.step(setpoint - encoder_.speed());
     }
+    // A reading that is NaN, infinite or beyond the type is reported, not read as 0 V.
+    const dqfx::checked<number> bus = dqfx::checked_from_double<number>(r.bus_voltage / base.base_voltage);
     dqfx::current_loop_input<number> in;
     in.current = {adc_.current(r.current_code[0]), adc_.current(r.current_code[1]), adc_.current(r.current_code[2])};
-    in.rotor = dqfx::sincos_of<number>(rotor);
-    in.speed = speed_;
+    in.rotor = dqfx::sincos_of<number>(encoder_.electrical_angle());
+    in.speed = encoder_.speed();
     in.setpoint = {number{}, iq_};
-    in.bus_voltage = dqfx::from_double<number>(24.0 / base.base_voltage);
-    probe.angle = rotor.radians();  // recorded beside the true angle
+    in.bus_voltage = bus.value;
+    const dqfx::current_loop_output<number> out = current_loop_.step(in);
+    probe.angle = encoder_.electrical_angle().radians();  // recorded beside the true angle
     probe.iq_setpoint = dqfx::to_double(iq_) * base.base_current;
-    return current_loop_.step(in).duty;
+    probe.speed = dqfx::to_double(encoder_.speed()) * base.mechanical_speed();
+    probe.fault = out.fault || !bus.ok() || encoder_.jump();
+    return out.duty;
   }
 
  private:
   dqfx::current_loop<number> current_loop_{current_gains};
   dqfx::pi_regulator<number, dqfx::conditional_integration> speed_loop_{speed_gains};
+  dqfx::encoder<number> encoder_{encoder_design};
   dqfx::current_channel<number> adc_ = dqfx::current_channel<number>::from_amplifier({12, 0}, 0.01, base.base_current);
-  dqfx::gain<number> speed_scale_ = dqfx::gain<number>::from_double(pi / (10 / pwm_hz) / base.base_speed);
-  dqfx::angle last_{};
-  number speed_{}, iq_{};
+  number iq_{};
   unsigned period_ = 0;
 };
 
@@ -90,6 +107,7 @@ TEST_CASE("my q15 controller: 1500 rpm within 2% in 60 ms, and holds it under a 
 
   const sim::run_result r = sim::run(board, s, my_controller{});
   REQUIRE_MESSAGE(r.outcome.ok(), r.outcome.message());
+  CHECK_MESSAGE(r.controller_status().ok(), r.controller_status().message());
 
   const sim::step_figures start = sim::step_response(r.records, &sim::record::speed, 0.01, 0.15, target);
   CHECK(start.settling_time < 0.06);
@@ -97,7 +115,31 @@ TEST_CASE("my q15 controller: 1500 rpm within 2% in 60 ms, and holds it under a 
   const sim::disturbance_figures load = sim::disturbance_response(r.records, &sim::record::speed, 0.15, 0.3, target);
   CHECK(load.largest_deviation > -0.1 * target);
   CHECK(std::fabs(load.steady_state_error) < 0.01 * target);
-  // One encoder count in 0.5 ms is 3 rad/s: the coarse speed shows in iq.
   CHECK(sim::ripple(r.records, &sim::record::iq, 0.25, 0.3).rms < 0.5);  // A
   CHECK(sim::angle_error(r.records, 0.01, 0.3).largest_degrees < 1.0);   // electrical
+}
+
+TEST_CASE("The simulator records the controller's own fault per period and says from when") {
+  // A controller that never sets the bus voltage: the current loop faults every period.
+  auto forgetful = [loop = dqfx::current_loop<number>{current_gains}](const sim::readings&, const sim::command&,
+                                                                       sim::probe& probe) mutable {
+    const dqfx::current_loop_output<number> out = loop.step(dqfx::current_loop_input<number>{});
+    probe.fault = out.fault;
+    return out.duty;
+  };
+  sim::plant_parameters board;
+  board.motor = {0.2, 300e-6, 300e-6, 0.008, 4, 1e-4, 1e-5};
+  board.inverter.pwm_frequency = pwm_hz;
+  board.bus.source_voltage = 24.0;
+  board.adc.amps_per_code = 0.01;
+  board.encoder.counts_per_turn = 4096;
+  sim::scenario s;
+  s.duration = 0.01;
+  const sim::run_result r = sim::run(board, s, forgetful);
+  REQUIRE(r.outcome.ok());  // the plant is fine: 50% duties
+  CHECK(r.periods_run == 200);
+  CHECK(r.controller_faults == 200);
+  CHECK(r.records.front().controller_fault);
+  CHECK_FALSE(r.controller_status().ok());
+  CHECK(r.controller_status().message() == "controller fault from t = 0 s to t = 0.00995 s, 200 of 200 periods");
 }

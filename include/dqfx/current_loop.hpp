@@ -56,6 +56,26 @@ struct current_loop_parameters {
   /// Radius of the voltage limit as a fraction of the largest linear-range vector
   /// vdc/sqrt(3) of centred space-vector modulation; clamped into [0, 1].
   double modulation_limit = 1.0;
+
+  /// The first value the loop cannot work with: a per-unit inductance or flux outside
+  /// [0, 1) (w*L*i or w*psi at base speed and current beyond the voltage range: choose a
+  /// larger base voltage or a smaller base speed or current), or a regulator gain that is
+  /// negative, NaN or at least 2^30 (the fixed-point gain range).
+  constexpr design_check check() const noexcept {
+    using detail::misfit_unless;
+    using detail::within;
+    constexpr double gain_range = 1073741824.0;
+    return detail::first_misfit(
+        detail::first_misfit(
+            detail::first_misfit(misfit_unless(within(ld, 1.0), "per-unit d inductance", ld),
+                                 misfit_unless(within(lq, 1.0), "per-unit q inductance", lq)),
+            detail::first_misfit(misfit_unless(within(flux, 1.0), "per-unit flux", flux),
+                                 misfit_unless(within(d.kp, gain_range), "d regulator kp", d.kp))),
+        detail::first_misfit(
+            detail::first_misfit(misfit_unless(within(d.ki, gain_range), "d regulator ki", d.ki),
+                                 misfit_unless(within(q.kp, gain_range), "q regulator kp", q.kp)),
+            misfit_unless(within(q.ki, gain_range), "q regulator ki", q.ki)));
+  }
 };
 
 /// Motor data in SI units, for `design_current_loop`.
@@ -67,7 +87,9 @@ struct pm_motor_data {
 };
 
 /// The loop for a motor: IMC current regulators (gain_design.hpp) on each axis with
-/// its own inductance, back-calculation tracking gain Ts/Ti, everything in per unit.
+/// its own inductance, back-calculation tracking gain Ts/Ti, everything in per unit. In a
+/// constant expression, a result that `check()` refuses does not compile; the diagnostic
+/// names the quantity and shows its value in thousandths.
 constexpr current_loop_parameters design_current_loop(const per_unit_base& base, const pm_motor_data& m,
                                                       double bandwidth, double sample_time) noexcept {
   current_loop_parameters p{};
@@ -76,6 +98,15 @@ constexpr current_loop_parameters design_current_loop(const per_unit_base& base,
   p.ld = base.inductance(m.ld);
   p.lq = base.inductance(m.lq);
   p.flux = base.flux(m.flux);
+  namespace n = detail::refused;
+  constexpr double gain_range = 1073741824.0;
+  detail::refuse_unless(detail::within(p.ld, 1.0), n::per_unit_d_inductance, p.ld);
+  detail::refuse_unless(detail::within(p.lq, 1.0), n::per_unit_q_inductance, p.lq);
+  detail::refuse_unless(detail::within(p.flux, 1.0), n::per_unit_flux, p.flux);
+  detail::refuse_unless(detail::within(p.d.kp, gain_range) && detail::within(p.q.kp, gain_range),
+                        n::regulator_kp, p.d.kp > p.q.kp ? p.d.kp : p.q.kp);
+  detail::refuse_unless(detail::within(p.d.ki, gain_range) && detail::within(p.q.ki, gain_range),
+                        n::regulator_ki, p.d.ki > p.q.ki ? p.d.ki : p.q.ki);
   return p;
 }
 

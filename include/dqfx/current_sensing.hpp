@@ -1,9 +1,10 @@
 // SPDX-License-Identifier: MIT
 #pragma once
 /// \file
-/// Phase currents from ADC codes: conversion to per-unit current with offset and gain,
-/// offset calibration at zero current, and reconstruction of the three phase currents
-/// from three low-side shunts or two phase sensors. A railed or missing sample is
+/// Phase currents and the bus voltage from ADC codes: conversion to per-unit current with
+/// offset and gain, offset calibration at zero current, reconstruction of the three phase
+/// currents from three low-side shunts or two phase sensors, and the bus voltage with
+/// under- and over-voltage limits (`voltage_channel`). A railed or missing sample is
 /// flagged and never used.
 ///
 /// Codes are read relative to mid-scale and the full ADC range: x = (code - 2^(bits-1))
@@ -55,22 +56,30 @@ namespace detail {
 // Deliberately not constexpr: reaching it for a constexpr channel stops compilation.
 inline void adc_bits_outside_8_to_16() noexcept {}
 
-/// (code - mid-scale) / 2^bits in T. q15 keeps 15 fraction bits (a 16-bit code is
-/// rounded); q31, float and double are exact. Zero for bits outside 8..16.
+/// steps / 2^bits in T, for |steps| < 2^bits (a code minus a reference code). q15 keeps 15
+/// fraction bits (16-bit codes are rounded); q31, float and double are exact.
 template <class T>
-constexpr T centred_code(std::uint16_t code, unsigned bits) noexcept {
-  if (!adc_format{bits, 0}.valid()) return T{};
-  const std::int32_t centred = static_cast<std::int32_t>(code) - (std::int32_t{1} << (bits - 1));
+constexpr T code_fraction(std::int32_t steps, unsigned bits) noexcept {
   if constexpr (is_fixed_v<T>) {
     const int up = T::fraction_bits - static_cast<int>(bits);
-    if (up >= 0) return T::saturated(std::int64_t{centred} * (std::int64_t{1} << up));
-    return T::saturated(round_shift(std::int64_t{centred}, -up));
+    if (up >= 0) return T::saturated(std::int64_t{steps} * (std::int64_t{1} << up));
+    return T::saturated(round_shift(std::int64_t{steps}, -up));
   } else {
-    T x = static_cast<T>(centred);
+    T x = static_cast<T>(steps);
     for (unsigned i = 0; i < bits; ++i) x *= T{0.5};
     return x;
   }
 }
+
+/// (code - mid-scale) / 2^bits in T. Zero for bits outside 8..16.
+template <class T>
+constexpr T centred_code(std::uint16_t code, unsigned bits) noexcept {
+  if (!adc_format{bits, 0}.valid()) return T{};
+  return code_fraction<T>(static_cast<std::int32_t>(code) - (std::int32_t{1} << (bits - 1)), bits);
+}
+
+// Deliberately not constexpr: reaching it for a constexpr channel stops compilation.
+inline void voltage_channel_needs_positive_scale() noexcept {}
 
 }  // namespace detail
 
@@ -115,6 +124,110 @@ class current_channel {
   adc_format format_{};
   gain<T> gain_{};
   T offset_{};
+};
+
+/// One voltage reading and what was wrong with it.
+template <class T> struct voltage_measurement {
+  T voltage{};           ///< per unit; zero unless `valid`
+  bool valid = false;    ///< present, not at a rail, and within the limits
+  bool missing = false;  ///< no sample this period
+  bool railed = false;   ///< at a rail of the converter, or beyond its largest code
+  bool low = false;      ///< below the lower limit (under-voltage)
+  bool high = false;     ///< above the upper limit (over-voltage, or beyond what T holds)
+};
+
+/// A unipolar voltage (the DC bus) from an ADC code behind a divider, in integer
+/// arithmetic for q15/q31: voltage = (code - zero_code) / 2^bits * gain, the gain being
+/// volts_per_code * 2^bits / base_volts. One rounding for ADCs of up to 15 bits in q15
+/// (16-bit codes: two), so the error against the exact (code - zero) * volts_per_code /
+/// base_volts is within 0.5 LSB plus the gain's own rounding (q15, q31; float and double:
+/// one rounding of the product and the gain's). The limits are compared in codes, exactly.
+///
+/// Bad input: a missing sample, a code at a rail or beyond the largest code, or a code
+/// outside the limits gives an invalid measurement with voltage 0 (which the current loop
+/// answers with its fault). An invalid format, a non-positive scale or base is a
+/// parameter fault: a compile-time error where constexpr, else `parameter_fault()` and no
+/// valid reading.
+template <class T>
+class voltage_channel {
+ public:
+  constexpr voltage_channel() noexcept = default;
+  /// `volts_per_code` of divider and converter together, `base_volts` of the per-unit
+  /// system, `zero_code` the code at 0 V. The upper limit starts at the largest code that
+  /// T holds (fixed point: below 1 per unit), the lower at `zero_code`.
+  static constexpr voltage_channel from_divider(adc_format format, double volts_per_code, double base_volts,
+                                                std::uint16_t zero_code = 0) noexcept {
+    if (!format.valid()) detail::adc_bits_outside_8_to_16();
+    if (!(volts_per_code > 0.0 && base_volts > 0.0)) detail::voltage_channel_needs_positive_scale();
+    if (!format.valid() || !(volts_per_code > 0.0 && base_volts > 0.0)) return voltage_channel{};
+    double full_range = volts_per_code / base_volts;
+    for (unsigned i = 0; i < format.bits; ++i) full_range *= 2.0;
+    voltage_channel c{};
+    c.format_ = format;
+    c.gain_ = gain<T>::from_double(full_range);
+    c.volts_per_code_ = volts_per_code;
+    c.zero_ = zero_code;
+    c.lower_ = zero_code;
+    // Fixed point holds values below 1: the code of base_volts and above saturates.
+    const double top = is_fixed_v<T> ? zero_code + base_volts / volts_per_code : 1e300;
+    c.upper_ = c.code_at_or_below(top, is_fixed_v<T>);
+    c.valid_ = true;
+    return c;
+  }
+  /// The same channel accepting only [lower_volts, upper_volts] (under- and over-voltage
+  /// limits, rounded inwards to codes; never beyond what T holds).
+  constexpr voltage_channel with_limits(double lower_volts, double upper_volts) const noexcept {
+    voltage_channel c = *this;
+    if (!valid_) return c;
+    const double lower = zero_ + lower_volts / volts_per_code_;
+    const double low_code = lower <= 0.0 ? 0.0 : lower;
+    const std::uint16_t l = c.code_at_or_below(low_code, false);
+    c.lower_ = static_cast<double>(l) < lower ? static_cast<std::uint16_t>(l + 1) : l;
+    const std::uint16_t u = c.code_at_or_below(zero_ + upper_volts / volts_per_code_, false);
+    c.upper_ = u < upper_ ? u : upper_;
+    return c;
+  }
+
+  constexpr const adc_format& format() const noexcept { return format_; }
+  constexpr std::uint16_t lower_code() const noexcept { return lower_; }
+  constexpr std::uint16_t upper_code() const noexcept { return upper_; }
+  constexpr bool parameter_fault() const noexcept { return !valid_; }
+  /// Per-unit voltage of a code, saturated (check the flags with `read`).
+  constexpr T voltage(std::uint16_t code) const noexcept {
+    if (!valid_) return T{};
+    return detail::code_fraction<T>(static_cast<std::int32_t>(code) - zero_, format_.bits) * gain_;
+  }
+  /// The sample with its flags; the voltage only when valid.
+  constexpr voltage_measurement<T> read(adc_sample s) const noexcept {
+    voltage_measurement<T> m{};
+    m.missing = !s.present;
+    m.railed = s.present && (!valid_ || std::uint32_t{s.code} > format_.largest_code() || format_.railed(s.code));
+    const bool usable = s.present && !m.railed;
+    m.low = usable && s.code < lower_;
+    m.high = usable && s.code > upper_;
+    m.valid = usable && !m.low && !m.high;
+    if (m.valid) m.voltage = voltage(s.code);
+    return m;
+  }
+
+ private:
+  /// The largest code at or below `code` (`strict`: below), within the converter's range.
+  constexpr std::uint16_t code_at_or_below(double code, bool strict) const noexcept {
+    const double largest = static_cast<double>(format_.largest_code());
+    if (!(code < largest + 1.0)) return static_cast<std::uint16_t>(format_.largest_code());
+    if (code < 0.0) return 0;
+    auto c = static_cast<std::uint16_t>(code);  // toward zero: at or below
+    if (strict && static_cast<double>(c) == code && c > 0) --c;
+    return c;
+  }
+
+  adc_format format_{};
+  gain<T> gain_{};
+  double volts_per_code_ = 0.0;
+  std::uint16_t zero_ = 0;
+  std::uint16_t lower_ = 0;
+  std::uint16_t upper_ = 0;
+  bool valid_ = false;
 };
 
 /// Averages N codes taken at zero current into an offset, and refuses the run when the

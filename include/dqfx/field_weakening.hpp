@@ -60,14 +60,27 @@ struct field_weakening_parameters {
   /// |v| is held at this fraction of the current loop's voltage limit (below 1, so the
   /// current regulators keep room to act).
   double reference = 0.9;
+
+  /// The first value that does not fit (see design_check): a gain that is negative, NaN or
+  /// at least 2^30, or a reference outside (0, 1].
+  constexpr design_check check() const noexcept {
+    return detail::first_misfit(
+        detail::misfit_unless(detail::within(gain, 1073741824.0), "field-weakening gain", gain),
+        detail::misfit_unless(reference > 0.0 && reference <= 1.0, "field-weakening reference", reference));
+  }
 };
 
 /// The voltage feedback for a motor (SI), called every `call_period` seconds, with the
-/// loop crossing `bandwidth` (rad/s) at `top_speed` (electrical rad/s).
+/// loop crossing `bandwidth` (rad/s) at `top_speed` (electrical rad/s). A gain beyond the
+/// fixed-point range (or NaN: a zero top speed or inductance) does not compile in a
+/// constant expression; at run time `check()` reports it.
 constexpr field_weakening_parameters design_field_weakening(const per_unit_base& base, const pm_motor_data& m,
                                                             double top_speed, double bandwidth, double call_period,
                                                             double reference = 0.9) noexcept {
-  return {bandwidth * call_period / (base.speed(top_speed) * base.inductance(m.ld)), reference};
+  const field_weakening_parameters p{bandwidth * call_period / (base.speed(top_speed) * base.inductance(m.ld)),
+                                     reference};
+  detail::refuse_unless(detail::within(p.gain, 1073741824.0), detail::refused::field_weakening_gain, p.gain);
+  return p;
 }
 
 /// Torque command to current set-points above and below base speed: MTPA while the

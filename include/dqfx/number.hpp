@@ -4,7 +4,7 @@
 /// The one number interface that every dqfx kernel is written against. A kernel is a
 /// template over T in {q15, q31, float, double} and uses only:
 ///   - `+ - * unary-` and comparisons (saturating and rounding for q15/q31),
-///   - `dqfx::abs`, `dqfx::from_double<T>`, `dqfx::to_double`,
+///   - `dqfx::abs`, `dqfx::from_double<T>`, `dqfx::to_double`, `dqfx::convert<To>`,
 ///   - `dqfx::gain<T>` for constants of any magnitude (2/sqrt(3), gains above one),
 ///   - `dqfx::accumulator<T>` for sums of products with one final rounding,
 ///   - `dqfx::number_traits<T>` for limits and the size of one unit in the last place.
@@ -66,8 +66,12 @@ constexpr bool is_nan(double x) noexcept { return x != x; }
 
 }  // namespace detail
 
-/// Converts a double into T: rounds to nearest (ties away from zero), saturates values
-/// outside T's range, and maps NaN to zero. constexpr, so constants cost nothing.
+/// Converts a double into T: rounds to nearest (ties away from zero; float and double:
+/// IEEE, ties to even), saturates values outside T's range (infinities too), and maps NaN
+/// to zero, for every T including float: it is the conversion for constants and designed
+/// parameters, where the compile-time checks refuse NaN and a kernel's parameters must
+/// mean the same in all four types. Convert measurements with `checked_from_double`,
+/// which reports NaN instead of answering 0. constexpr, so constants cost nothing.
 template <class T>
 constexpr T from_double(double v) noexcept {
   static_assert(is_number_v<T>, "dqfx::from_double supports q15, q31, float and double");
@@ -111,6 +115,77 @@ constexpr double to_double(T v) noexcept {
   } else {
     return static_cast<double>(v.raw()) * number_traits<T>::lsb;
   }
+}
+
+/// Converts between q15, q31, float and double:
+///   - q15 -> q31, q15 -> float/double, q31 -> double, float -> double: exact;
+///   - q31 -> q15: rounded to nearest, ties away from zero (as `from_double`), saturated
+///     (q31 values from max() - 2^-16 up round to 1.0 and give q15's max());
+///   - q31 -> float: rounded to nearest, ties to even (one IEEE rounding);
+///   - float/double -> q15/q31 and double -> float: `from_double` (nearest, saturating,
+///     NaN to 0; see there).
+/// So convert<q15>(x) == from_double<q15>(to_double(x)) for every x, without a double.
+template <class To, class From>
+constexpr To convert(From x) noexcept {
+  static_assert(is_number_v<To> && is_number_v<From>, "dqfx::convert supports q15, q31, float and double");
+  if constexpr (std::is_same_v<To, From>) {
+    return x;
+  } else if constexpr (is_fixed_v<To> && is_fixed_v<From>) {
+    constexpr int shift = From::fraction_bits - To::fraction_bits;
+    if constexpr (shift < 0) {
+      // Widening: exact (|raw| * 2^16 fits in 32 bits).
+      return To::from_raw(static_cast<typename To::raw_type>(std::int32_t{x.raw()} * (std::int32_t{1} << -shift)));
+    } else {
+      // Narrowing: the magnitude rounded half up, the sign put back (ties away from zero).
+      const std::int64_t r = x.raw();
+      const std::int64_t half = std::int64_t{1} << (shift - 1);
+      const std::int64_t m = ((r < 0 ? -r : r) + half) >> shift;
+      return To::saturated(r < 0 ? -m : m);
+    }
+  } else if constexpr (is_fixed_v<From>) {
+    // The raw integer converted once (the only rounding), then scaled by a power of two.
+    return static_cast<To>(x.raw()) * static_cast<To>(number_traits<From>::lsb);
+  } else {
+    return from_double<To>(static_cast<double>(x));
+  }
+}
+
+/// What a checked conversion found.
+enum class conversion_status : std::uint8_t {
+  ok,            ///< in range (rounded as `from_double` rounds)
+  not_finite,    ///< NaN or an infinity: the value is 0
+  out_of_range,  ///< finite but beyond the type's range: the value is saturated
+};
+
+/// A converted measurement and what the conversion found.
+template <class T> struct checked {
+  T value{};
+  conversion_status status = conversion_status::ok;
+  constexpr bool ok() const noexcept { return status == conversion_status::ok; }
+};
+
+/// Converts a measured double (or float, which widens exactly) into T like `from_double`,
+/// and reports what `from_double` would hide: NaN and infinities (value 0, so that a
+/// broken sensor cannot pass for a saturated reading) and finite values beyond T's range
+/// (value saturated; for q15/q31 every value that would round beyond max() or lowest()).
+/// Test `ok()` before using the value, e.g. to raise the controller's own fault.
+template <class T>
+constexpr checked<T> checked_from_double(double v) noexcept {
+  static_assert(is_number_v<T>, "dqfx::checked_from_double supports q15, q31, float and double");
+  constexpr double largest = std::numeric_limits<double>::max();
+  if (detail::is_nan(v) || v > largest || v < -largest) return {T{}, conversion_status::not_finite};
+  bool inside = false;
+  if constexpr (is_fixed_v<T>) {
+    const double x = v / number_traits<T>::lsb;  // exact: a power of two
+    using raw = typename T::raw_type;
+    // Rounded to nearest with ties away from zero, x stays in [min, max] inside these.
+    inside = x < static_cast<double>(std::numeric_limits<raw>::max()) + 0.5 &&
+             x > static_cast<double>(std::numeric_limits<raw>::min()) - 0.5;
+  } else {
+    inside = v <= static_cast<double>(std::numeric_limits<T>::max()) &&
+             v >= static_cast<double>(std::numeric_limits<T>::lowest());
+  }
+  return {from_double<T>(v), inside ? conversion_status::ok : conversion_status::out_of_range};
 }
 
 /// |x| for every number type (the fixed-point overload saturates |lowest()|).

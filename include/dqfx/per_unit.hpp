@@ -13,6 +13,7 @@
 ///   constexpr dqfx::per_unit_base base{20.0, 28.0, 2 * 3.14159 * 500, 4};  // invented
 ///   constexpr auto limit = dqfx::per_unit_constant<dqfx::q15>([] { return base.current(15.0); });
 
+#include <cstdint>
 #include <limits>
 #include <type_traits>
 
@@ -81,6 +82,62 @@ constexpr bool vanishes(double v) noexcept {
 
 }  // namespace detail
 
+/// The first value of a design that does not fit, or none: what `check()` of a design
+/// returns, to be tested at start-up when the design is computed at run time. (A design
+/// computed in a constant expression does not compile instead; see `design_current_loop`.)
+struct design_check {
+  const char* quantity = nullptr;  ///< what does not fit, in words; nullptr: everything fits
+  double value = 0.0;              ///< its value
+  constexpr bool ok() const noexcept { return quantity == nullptr; }
+};
+
+namespace detail {
+
+// Deliberately not constexpr (compilers without __builtin_is_constant_evaluated).
+inline void design_value_does_not_fit() noexcept {}
+
+/// Stops constant evaluation when `fits` is false, with a diagnostic that names the
+/// quantity (the one-element array's name, in the call the compiler prints) and shows its
+/// value in thousandths (the array index the compiler reports; GCC and Clang print both).
+/// At run time it does nothing: the design's `check()` reports the same value.
+constexpr bool refuse_unless(bool fits, const char (&quantity_times_1000)[1], double value) noexcept {
+  if (fits) return true;
+#if defined(__GNUC__) || defined(__clang__)
+  if (!__builtin_is_constant_evaluated()) return false;
+  const double m = is_nan(value) ? -1.0 : value * 1000.0;
+  const auto shown = static_cast<std::int64_t>(m > 9e15 ? 9e15 : (m < -9e15 ? -9e15 : m));
+  // Out of bounds on purpose, and only in constant evaluation: not a constant expression.
+  // cppcheck-suppress arrayIndexOutOfBounds
+  return quantity_times_1000[shown == 0 ? 1 : shown] == 0;
+#else
+  (void)quantity_times_1000;
+  (void)value;
+  design_value_does_not_fit();  // not constexpr: stops constant evaluation (no value shown)
+  return false;
+#endif
+}
+
+/// The quantities a design can refuse, as named in the compiler's diagnostic.
+namespace refused {
+inline constexpr char per_unit_d_inductance[1] = {};
+inline constexpr char per_unit_q_inductance[1] = {};
+inline constexpr char per_unit_flux[1] = {};
+inline constexpr char regulator_kp[1] = {};
+inline constexpr char regulator_ki[1] = {};
+inline constexpr char per_unit_value[1] = {};
+inline constexpr char per_unit_current_limit[1] = {};
+inline constexpr char field_weakening_gain[1] = {};
+}  // namespace refused
+
+/// v in [0, limit) (NaN is not).
+constexpr bool within(double v, double limit) noexcept { return v >= 0.0 && v < limit; }
+constexpr design_check first_misfit(design_check a, design_check b) noexcept { return a.ok() ? b : a; }
+constexpr design_check misfit_unless(bool fits, const char* quantity, double v) noexcept {
+  return fits ? design_check{} : design_check{quantity, v};
+}
+
+}  // namespace detail
+
 /// Whether T holds v: not NaN, inside T's range, and (fixed point) not a nonzero value
 /// that rounds to zero.
 template <class T>
@@ -112,6 +169,9 @@ constexpr T per_unit_constant(Constant value) noexcept {
   static_assert(!detail::vanishes<T>(v),
                 "dqfx::per_unit_constant: the value is nonzero but rounds to zero in this "
                 "fixed-point format; choose a smaller base value or a wider format");
+  // The value itself, in thousandths, in a second diagnostic beside the message above.
+  constexpr bool shown = detail::refuse_unless(fits_number<T>(v), detail::refused::per_unit_value, v);
+  static_cast<void>(shown);
   return from_double<T>(v);
 }
 

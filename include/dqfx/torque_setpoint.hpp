@@ -78,13 +78,33 @@ struct torque_setpoint_parameters {
     return flux > 0.0 && ld > 0.0 && lq >= ld && current_limit > 0.0 && voltage_use > 0.0 &&
            voltage_use <= 1.0 && lq < 100.0 && flux + (lq - ld) * current_limit < 100.0;
   }
+  /// The first value outside what a drive's per-unit system should give (see
+  /// design_check): inductances, flux and current limit in [0, 1) (the current limit is a
+  /// q15/q31 number; w*L*i and w*psi must stay within the voltage range at base values).
+  constexpr design_check check() const noexcept {
+    using detail::misfit_unless;
+    using detail::within;
+    return detail::first_misfit(
+        detail::first_misfit(misfit_unless(within(ld, 1.0), "per-unit d inductance", ld),
+                             misfit_unless(within(lq, 1.0), "per-unit q inductance", lq)),
+        detail::first_misfit(misfit_unless(within(flux, 1.0), "per-unit flux", flux),
+                             misfit_unless(within(current_limit, 1.0), "per-unit current limit", current_limit)));
+  }
 };
 
-/// The set-point parameters of a motor given in SI, with the current limit in amperes.
+/// The set-point parameters of a motor given in SI, with the current limit in amperes. In
+/// a constant expression, a result that `check()` refuses does not compile (the
+/// diagnostic names the quantity and shows its value in thousandths).
 constexpr torque_setpoint_parameters design_torque_setpoint(const per_unit_base& base, const pm_motor_data& m,
                                                             double current_limit, double voltage_use = 0.95) noexcept {
-  return {base.inductance(m.ld), base.inductance(m.lq), base.flux(m.flux), base.current(current_limit),
-          voltage_use};
+  const torque_setpoint_parameters p{base.inductance(m.ld), base.inductance(m.lq), base.flux(m.flux),
+                                     base.current(current_limit), voltage_use};
+  namespace n = detail::refused;
+  detail::refuse_unless(detail::within(p.ld, 1.0), n::per_unit_d_inductance, p.ld);
+  detail::refuse_unless(detail::within(p.lq, 1.0), n::per_unit_q_inductance, p.lq);
+  detail::refuse_unless(detail::within(p.flux, 1.0), n::per_unit_flux, p.flux);
+  detail::refuse_unless(detail::within(p.current_limit, 1.0), n::per_unit_current_limit, p.current_limit);
+  return p;
 }
 
 /// What a call gives.

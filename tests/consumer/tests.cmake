@@ -42,3 +42,18 @@ if(DQFX_CONSUMER_ARM_CXX)
       -DCMAKE_EXE_LINKER_FLAGS=--specs=nosys.specs)
   set_tests_properties(package.find_package.cortex-m4 PROPERTIES LABELS package FIXTURES_REQUIRED dqfx_installed)
 endif()
+
+# The firmware example, copied out of dqfx in effect: built on its own against the
+# installed package (its per-core flags and toolchain file), for one core, with its tests.
+find_program(DQFX_ARM_GXX arm-none-eabi-g++)
+if(DQFX_INSTALL AND DQFX_ARM_GXX)
+  add_test(NAME package.firmware COMMAND ${CMAKE_CTEST_COMMAND}
+    --build-and-test ${PROJECT_SOURCE_DIR}/examples/firmware ${dqfx_consumer_bin}/firmware
+    --build-generator ${CMAKE_GENERATOR}
+    --build-makeprogram ${CMAKE_MAKE_PROGRAM}
+    --build-options -DCMAKE_PREFIX_PATH=${dqfx_consumer_prefix}
+                    -DCMAKE_TOOLCHAIN_FILE=${dqfx_consumer_prefix}/share/dqfx/cmake/toolchain-arm-none-eabi.cmake
+                    -DFIRMWARE_CORES=m0 -DFIRMWARE_NUMBERS=q15
+    --test-command ${CMAKE_CTEST_COMMAND} --output-on-failure)
+  set_tests_properties(package.firmware PROPERTIES LABELS package FIXTURES_REQUIRED dqfx_installed)
+endif()

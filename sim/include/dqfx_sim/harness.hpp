@@ -87,6 +87,7 @@ struct probe {
   double id_setpoint = NAN, iq_setpoint = NAN;  ///< A
   double angle = NAN;                           ///< electrical rad the controller used
   double speed = NAN;                           ///< mechanical rad/s, its estimate
+  bool fault = false;  ///< the controller's own fault this period (e.g. current_loop_output::fault)
 };
 
 /// A run's outcome, recording and counters.
@@ -94,6 +95,19 @@ struct run_result {
   status outcome;               ///< refused parameters, NaN duty, overspeed
   std::vector<record> records;  ///< one per period run
   std::size_t clamped_duties = 0;
+  std::size_t periods_run = 0;              ///< periods the controller was called
+  std::size_t controller_faults = 0;        ///< periods in which the controller raised `probe::fault`
+  double first_controller_fault = NAN;      ///< s, the first of them
+  double last_controller_fault = NAN;       ///< s, the last of them
+
+  /// Success when the controller never raised its fault; else a failure that says when
+  /// ("controller fault from t = 0.002 s to t = 0.1 s, 1961 of 2000 periods").
+  status controller_status() const {
+    if (controller_faults == 0) return {};
+    return status::failure("controller fault from t = " + text(first_controller_fault) + " s to t = " +
+                           text(last_controller_fault) + " s, " + std::to_string(controller_faults) + " of " +
+                           std::to_string(periods_run) + " periods");
+  }
 };
 
 /// Options of a run.
@@ -155,6 +169,11 @@ run_result run(const plant_parameters& parameters, const scenario& s, Controller
     const command cmd{s.speed.at(r.time)};
     probe pr;
     const auto out = detail::call(controller, r, cmd, pr);
+    ++result.periods_run;
+    if (pr.fault) {
+      if (result.controller_faults++ == 0) result.first_controller_fault = r.time;
+      result.last_controller_fault = r.time;
+    }
     const three_phase duty{to_double(out.a), to_double(out.b), to_double(out.c)};
     if (!(std::isfinite(duty.a) && std::isfinite(duty.b) && std::isfinite(duty.c))) {
       result.outcome = status::failure("controller returned a non-finite duty at t = " + text(r.time) + " s");
@@ -189,6 +208,7 @@ run_result run(const plant_parameters& parameters, const scenario& s, Controller
       row.bus_voltage = p.bus_voltage();
       row.torque = p.torque();
       row.load_torque = load;
+      row.controller_fault = pr.fault;
       result.records.push_back(row);
     }
     p.advance(load);

@@ -31,6 +31,7 @@ struct record {
   double bus_voltage = 0.0;     ///< V
   double torque = 0.0;          ///< N*m, electromagnetic
   double load_torque = 0.0;     ///< N*m
+  bool controller_fault = false;  ///< the controller raised its fault (probe::fault)
 };
 
 /// A record member, to name a signal in the figures (`&record::iq`).
@@ -41,14 +42,14 @@ inline status write_csv(const std::string& path, const std::vector<record>& rows
   std::FILE* f = std::fopen(path.c_str(), "w");
   if (!f) return status::failure("cannot open " + path + " for writing");
   std::fputs("time,speed_setpoint,speed,speed_estimate,id,iq,id_setpoint,iq_setpoint,ia,ib,ic,angle,"
-             "angle_error,duty_a,duty_b,duty_c,vd,vq,bus_voltage,torque,load_torque\n", f);
+             "angle_error,duty_a,duty_b,duty_c,vd,vq,bus_voltage,torque,load_torque,controller_fault\n", f);
   if (every == 0) every = 1;
   for (std::size_t k = 0; k < rows.size(); k += every) {
     const record& r = rows[k];
-    std::fprintf(f, "%.7g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g\n",
+    std::fprintf(f, "%.7g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%.6g,%d\n",
                  r.time, r.speed_setpoint, r.speed, r.speed_estimate, r.id, r.iq, r.id_setpoint, r.iq_setpoint,
                  r.current.a, r.current.b, r.current.c, r.angle, r.angle_error, r.duty.a, r.duty.b, r.duty.c, r.vd,
-                 r.vq, r.bus_voltage, r.torque, r.load_torque);
+                 r.vq, r.bus_voltage, r.torque, r.load_torque, r.controller_fault ? 1 : 0);
   }
   const bool written = std::ferror(f) == 0;
   return std::fclose(f) == 0 && written ? status{} : status::failure("error writing " + path);

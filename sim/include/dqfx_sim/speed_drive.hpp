@@ -102,6 +102,7 @@ class speed_drive {
     p.iq_setpoint = to_double(iq_setpoint_) * d_.base.base_current;
     p.id_setpoint = to_double(id_setpoint_) * d_.base.base_current;
     p.speed = to_double(speed_) * d_.base.mechanical_speed();
+    p.fault = last_.fault;
     return last_.duty;
   }
 
