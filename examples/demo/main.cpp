@@ -170,7 +170,9 @@ std::string fixed(double v, int decimals) {
 const char* plot_script = R"(# Written by dqfx_demo; run in the output directory: gnuplot plots.gp
 set datafile separator ','
 set terminal pngcairo size 1200,800 font ',10'
-set key top left
+# Legends beside the plots, never over the data; time axes end where the data ends.
+set key outside right top
+set autoscale xfix
 set grid
 types = 'double float q31 q15'
 full(t) = sprintf('demo_%s.csv', t)
@@ -211,9 +213,7 @@ set output 'angle_error.png'
 set multiplot layout 2,1 title 'Angle the controller used (encoder) minus the true electrical angle, at the sampling instant'
 set ylabel 'electrical degrees'
 set xlabel 'time (s)'
-set key top right
 plot for [i=1:4] overview(word(types,i)) using 1:($13*180/pi) with points pt 7 ps 0.25 lc rgb colour(i) title word(types,i)
-set key top left
 set xlabel 'time (s), starting from standstill: the error ramps within each encoder count (0.18 electrical degrees), one point per PWM period'
 set xrange [FIRST_STEP:FIRST_STEP+0.0015]
 plot for [i=1:4] full(word(types,i)) using 1:($13*180/pi) with linespoints pt 7 ps 0.6 lw 1 lc rgb colour(i) title word(types,i)
@@ -232,7 +232,34 @@ set xlabel 'time (s), steady at 3000 rpm under load'
 set xrange [STEP_DOWN-0.01:STEP_DOWN]
 plot for [i=1:4] full(word(types,i)) using 1:14 with lines lw 1 lc rgb colour(i) title 'a, '.word(types,i)
 unset multiplot
+set xrange [*:*]
+set yrange [*:*]
+
+set output 'difference.png'
+set multiplot layout 2,1 title 'Each number type in its own closed loop minus the double one (same scenario, same noise)'
+set ylabel 'speed difference (rpm)'
+unset xlabel
+plot for [i=2:4] 'difference.csv' using 1:i with lines lw 1 lc rgb colour(i) title word(types,i)
+set xlabel 'time (s)'
+set ylabel 'iq difference (A)'
+plot for [i=2:4] 'difference.csv' using 1:(column(i+3)) with lines lw 1 lc rgb colour(i) title word(types,i)
+unset multiplot
 )";
+
+// Speed (rpm) and iq (A) of float, q31 and q15 minus double, every `every`-th period.
+bool write_differences(const std::string& path, const std::vector<sim::record>& ref,
+                       const std::vector<const std::vector<sim::record>*>& others, std::size_t every) {
+  std::FILE* f = std::fopen(path.c_str(), "w");
+  if (!f) return false;
+  std::fprintf(f, "time,speed_float,speed_q31,speed_q15,iq_float,iq_q31,iq_q15\n");
+  for (std::size_t k = 0; k < ref.size(); k += every) {
+    std::fprintf(f, "%.6f", ref[k].time);
+    for (const auto* o : others) std::fprintf(f, ",%.6g", k < o->size() ? ((*o)[k].speed - ref[k].speed) / rpm : 0.0);
+    for (const auto* o : others) std::fprintf(f, ",%.6g", k < o->size() ? (*o)[k].iq - ref[k].iq : 0.0);
+    std::fprintf(f, "\n");
+  }
+  return std::fclose(f) == 0;
+}
 
 bool write_text(const std::string& path, const std::string& text) {
   std::FILE* f = std::fopen(path.c_str(), "w");
@@ -341,6 +368,11 @@ int main(int argc, char** argv) {
       return 1;
     }
   }
+  if (!write_differences(out + "/difference.csv", ref,
+                         {&runs[1].result.records, &runs[2].result.records, &runs[3].result.records}, 10)) {
+    std::fprintf(stderr, "dqfx_demo: cannot write %s/difference.csv\n", out.c_str());
+    return 1;
+  }
   std::string script = replace_all(plot_script, "LOAD_STEP", fixed(m.load_step, 3));
   script = replace_all(script, "FIRST_STEP", fixed(m.first_step, 3));
   script = replace_all(script, "SECOND_STEP", fixed(m.second_step, 3));
@@ -352,7 +384,7 @@ int main(int argc, char** argv) {
   std::printf("\nCSV: %s/demo_{double,float,q31,q15}.csv\n", out.c_str());
   if (std::system("command -v gnuplot >/dev/null 2>&1") == 0) {
     if (std::system(("cd '" + out + "' && gnuplot plots.gp").c_str()) == 0) {
-      std::printf("plots: %s/{speed,currents,angle_error,duties}.png\n", out.c_str());
+      std::printf("plots: %s/{speed,currents,angle_error,duties,difference}.png\n", out.c_str());
     } else {
       std::fprintf(stderr, "dqfx_demo: gnuplot failed on %s/plots.gp\n", out.c_str());
       return 1;
