@@ -99,3 +99,40 @@ TEST_CASE_TEMPLATE("speed_regulator: matches the textbook weighted PI with ramp 
     }
   }
 }
+
+TEST_CASE_TEMPLATE("speed_regulator: ramp, limits, restart rule and bad input", T, q15, q31, float, double) {
+  const dqfx::speed_regulator_parameters p = dqfx::design_speed_regulator(base, invented_speed_loop(0.0, 2e4));
+  dqfx::speed_regulator<T> r{p};
+  // The ramp: 2e4 rad/s^2 * 0.5 ms * 4 / base speed = 0.0064 per unit per sample.
+  for (int k = 0; k < 10; ++k) r.step(dqfx::from_double<T>(0.5), T{});
+  CHECK(dqfx::to_double(r.reference()) == doctest::Approx(10 * p.ramp_step).epsilon(1e-3));
+  // The target is clamped to the speed limit; the torque to its limit.
+  for (int k = 0; k < 400; ++k) r.step(dqfx::number_traits<T>::max(), T{});
+  CHECK(dqfx::to_double(r.reference()) == doctest::Approx(p.speed_limit).epsilon(1e-3));
+  CHECK(dqfx::to_double(r.step(dqfx::number_traits<T>::max(), T{})) == doctest::Approx(p.pi.upper).epsilon(1e-3));
+  // Restart at the measured speed: no reference step, the first torque is the
+  // proportional reaction to the error only.
+  r.reset(dqfx::from_double<T>(0.3));
+  CHECK(dqfx::to_double(r.reference()) == doctest::Approx(0.3).epsilon(1e-3));
+  CHECK(std::fabs(dqfx::to_double(r.step(dqfx::from_double<T>(0.3), dqfx::from_double<T>(0.3)))) < 1e-3);
+  CHECK_FALSE(r.input_fault());
+  if constexpr (!dqfx::number_traits<T>::is_fixed) {
+    const T nan = std::numeric_limits<T>::quiet_NaN(), inf = std::numeric_limits<T>::infinity();
+    const T held = r.reference();
+    const T out = r.step(nan, dqfx::from_double<T>(0.3));
+    CHECK(r.input_fault());
+    CHECK(r.reference() == held);
+    CHECK(out == out);
+    CHECK(r.step(dqfx::from_double<T>(0.3), inf) == T{});
+    r.clear_faults();
+    CHECK_FALSE(r.input_fault());
+    r.reset(nan, nan);
+    CHECK(r.reference() == T{});
+  }
+  // Parameters that break a rule give a regulator that outputs 0.
+  dqfx::speed_regulator_parameters bad = p;
+  bad.weighting = 1.5;
+  dqfx::speed_regulator<T> refused{bad};
+  CHECK(refused.parameter_fault());
+  CHECK(refused.step(dqfx::from_double<T>(0.5), T{}) == T{});
+}

@@ -23,6 +23,7 @@
 #include "dqfx/pwm.hpp"               // duties to timer compare values, dead-time compensation
 #include "dqfx/saturation.hpp"        // opt-in saturation counting for host tests
 #include "dqfx/sincos.hpp"            // sine and cosine of a binary angle
+#include "dqfx/speed_regulator.hpp"   // speed loop: ramp, set-point weighting, torque limit
 #include "dqfx/svm.hpp"               // space-vector modulation
 #include "dqfx/torque_setpoint.hpp"   // torque to d/q current set-points (MTPA, limits)
 #include "dqfx/tracking_pll.hpp"      // angle-tracking PLL
