@@ -7,6 +7,7 @@
 #include <cstdint>
 
 #include "dqfx/current_loop.hpp"
+#include "dqfx/encoder.hpp"
 #include "dqfx/per_unit.hpp"
 #include "dqfx/speed_regulator.hpp"
 #include "dqfx_sim/sim.hpp"
@@ -92,6 +93,29 @@ inline dqfx::speed_regulator_parameters speed_design(const test_drive& d, double
   s.torque_limit = 1.5 * m.pole_pairs * m.flux * d.current_limit;
   s.weighting = weighting;
   return dqfx::design_speed_regulator(d.base, s);
+}
+
+constexpr double capture_clock = 10e6;  // Hz, an invented edge-capture timer
+
+/// The drive's encoder: the simulator's counter (32 bits), edge times through a capture
+/// timer of `capture_clock`, speed filtered at 8 times the speed-loop crossover.
+inline dqfx::encoder_parameters encoder_for(const test_drive& d) {
+  dqfx::encoder_parameters e{};
+  e.counts_per_turn = d.plant.encoder.counts_per_turn;
+  e.pole_pairs = d.plant.motor.pole_pairs;
+  e.counter_period = 0;
+  e.base_speed = d.base.base_speed;
+  e.sample_time = 1 / d.plant.inverter.pwm_frequency;
+  e.tick_frequency = capture_clock;
+  e.filter_bandwidth = 8 * d.speed_bandwidth;
+  return e;
+}
+
+/// One period's reading of the simulator's encoder counter and capture timer.
+template <class Encoder>
+void read_encoder(Encoder& e, const sim::readings& r) {
+  const auto ticks = [](double t) { return static_cast<std::uint32_t>(static_cast<std::uint64_t>(t * capture_clock)); };
+  e.update(r.encoder_count, ticks(r.encoder_edge_time < 0 ? 0.0 : r.encoder_edge_time), ticks(r.time));
 }
 
 }  // namespace dqfx_test

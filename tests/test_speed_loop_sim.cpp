@@ -27,8 +27,6 @@ using dqfx_test::name;
 using sim::pi;
 using namespace dqfx_test;
 
-constexpr double capture_clock = 10e6;  // Hz, an invented edge-capture timer
-
 /// Encoder angle and speed, speed loop every `divider` periods, MTPA, current loop.
 template <class T>
 struct speed_controller {
@@ -41,21 +39,9 @@ struct speed_controller {
   dqfx::rotating<T> setpoint{};
   unsigned count = 0;
 
-  static dqfx::encoder_parameters encoder_design(const test_drive& d) {
-    dqfx::encoder_parameters e{};
-    e.counts_per_turn = d.plant.encoder.counts_per_turn;
-    e.pole_pairs = d.plant.motor.pole_pairs;
-    e.counter_period = 0;
-    e.base_speed = d.base.base_speed;
-    e.sample_time = 1 / d.plant.inverter.pwm_frequency;
-    e.tick_frequency = capture_clock;
-    e.filter_bandwidth = 8 * d.speed_bandwidth;
-    return e;
-  }
-
   speed_controller(const test_drive& drive, double weighting)
       : d{drive},
-        encoder{encoder_design(drive)},
+        encoder{encoder_for(drive)},
         channel{dqfx::current_channel<T>::from_amplifier({drive.plant.adc.bits, 0}, drive.plant.adc.amps_per_code,
                                                          drive.base.base_current)},
         loop{dqfx::design_current_loop(drive.base, motor_data(drive), drive.current_bandwidth,
@@ -64,9 +50,7 @@ struct speed_controller {
         mtpa{dqfx::design_torque_setpoint(drive.base, motor_data(drive), drive.current_limit)} {}
 
   dqfx::phases<T> operator()(const sim::readings& r, const sim::command& c, sim::probe& p) {
-    // The simulator's edge capture read as a timer of `capture_clock` (wrapping at 2^32).
-    const auto ticks = [](double t) { return static_cast<std::uint32_t>(static_cast<std::uint64_t>(t * capture_clock)); };
-    encoder.update(r.encoder_count, ticks(r.encoder_edge_time < 0 ? 0.0 : r.encoder_edge_time), ticks(r.time));
+    read_encoder(encoder, r);
     const T bus = dqfx::from_double<T>(r.bus_voltage / d.base.base_voltage);
     if (count++ % d.divider == 0) {
       const T target = dqfx::from_double<T>(c.speed * d.base.pole_pairs / d.base.base_speed);
