@@ -98,7 +98,8 @@ inline dqfx::speed_regulator_parameters speed_design(const test_drive& d, double
 constexpr double capture_clock = 10e6;  // Hz, an invented edge-capture timer
 
 /// The drive's encoder: the simulator's counter (32 bits), edge times through a capture
-/// timer of `capture_clock`, speed filtered at 8 times the speed-loop crossover.
+/// timer of `capture_clock`, speed filtered at 8 times the speed-loop crossover, a stuck
+/// counter found from the torque limit's acceleration.
 inline dqfx::encoder_parameters encoder_for(const test_drive& d) {
   dqfx::encoder_parameters e{};
   e.counts_per_turn = d.plant.encoder.counts_per_turn;
@@ -108,6 +109,10 @@ inline dqfx::encoder_parameters encoder_for(const test_drive& d) {
   e.sample_time = 1 / d.plant.inverter.pwm_frequency;
   e.tick_frequency = capture_clock;
   e.filter_bandwidth = 8 * d.speed_bandwidth;
+  // Twice the fastest the torque limit can accelerate the rotor: a frozen counter is stuck.
+  const sim::motor_parameters& m = d.plant.motor;
+  const double torque = 1.5 * m.pole_pairs * m.flux * d.current_limit;
+  e.max_acceleration = 2 * torque / m.inertia * m.pole_pairs / d.base.base_speed;
   return e;
 }
 

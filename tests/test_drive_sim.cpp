@@ -70,6 +70,7 @@ struct harness {
   Source source;
   std::function<void(Source&, const sim::readings&)> read;
   std::function<void(sim::readings&)> inject;
+  std::function<void(dqfx::drive<T, Source>&, double)> command;  // user commands at times
   double stop_time = 1e9;
   double stuck_from = 1e9;
   bool started = false, stopped = false, nan_duty = false;
@@ -85,6 +86,7 @@ struct harness {
     if (inject) inject(r);
     read(source, r);
     if (!started && r.time >= 1e-3) started = drive.start();
+    if (command) command(drive, r.time);
     if (!stopped && r.time >= stop_time) {
       drive.stop();
       stopped = true;
@@ -150,4 +152,243 @@ TEST_CASE_TEMPLATE("drive on the simulator: start, speed, load and stop with the
     CHECK(h.states[4].second == drive_state::stopped);
     CHECK(std::fabs(final_speed) < 0.01 * target);
   }
+}
+
+namespace {
+
+/// One injected fault: what tripped, when (s after the injection, and after the true
+/// condition where there is one), and whether the outputs were the safe ones from then on.
+struct reaction {
+  fault_cause cause = fault_cause::none;
+  double after_injection = NAN;
+  bool safe = false;
+};
+
+template <class T, class Source>
+void check_safe(const harness<T, Source>& h, dqfx::safe_output safe, reaction& out) {
+  const double level = safe == dqfx::safe_output::low_side_on ? 0.0 : 0.5;
+  const dqfx::drive_output<T>& o = h.last;
+  out.cause = o.cause;
+  out.safe = o.state == drive_state::fault && o.bridge_enabled == (safe != dqfx::safe_output::all_off) &&
+             dqfx::to_double(o.duty.a) == level && dqfx::to_double(o.duty.b) == level &&
+             dqfx::to_double(o.duty.c) == level && !h.nan_duty;
+}
+
+/// Runs the drive at 30 % speed and injects from `at` on (through `setup`, which may also
+/// change the parameters and the load); returns the reaction and the records.
+template <class T>
+reaction injected(const test_drive& d, double at, dqfx::safe_output safe,
+                  const std::function<void(dqfx::drive_parameters&, sim::scenario&)>& design,
+                  const std::function<void(harness<T, dqfx::encoder<T>>&)>& setup, std::vector<sim::record>* rows = nullptr) {
+  dqfx::drive_parameters p = drive_design(d, safe);
+  sim::scenario s;
+  s.duration = at + 0.05;
+  s.speed = sim::profile{mechanical(d, 0.3)};
+  design(p, s);
+  harness<T, dqfx::encoder<T>> h{d, p, dqfx::encoder<T>{encoder_for(d)},
+                                 [](dqfx::encoder<T>& e, const sim::readings& r) { read_encoder(e, r); }};
+  setup(h);
+  const sim::run_result r = sim::run(d.plant, s, std::ref(h));
+  REQUIRE(r.outcome.ok());
+  reaction out;
+  out.after_injection = h.fault_time - at;
+  check_safe(h, safe, out);
+  if (rows) *rows = r.records;
+  return out;
+}
+
+/// The first recorded time from `from` on at which `condition` holds (NaN: never).
+template <class Condition>
+double first_time(const std::vector<sim::record>& rows, double from, Condition condition) {
+  for (const sim::record& x : rows)
+    if (x.time >= from && condition(x)) return x.time;
+  return NAN;
+}
+
+const auto no_change = [](dqfx::drive_parameters&, sim::scenario&) {};
+
+}  // namespace
+
+// Every monitor, its fault injected into the running drive: the cause latched, the
+// reaction time and the safe output from then on. A monitor with a time of N periods trips
+// in the N-th faulty sample; the safe output reaches the bridge one period later (the
+// simulator's duty delay, as on most timers). The salient drive for all; the two faults
+// that hit the current path also on the other two drives.
+TEST_CASE_TEMPLATE("drive on the simulator: injected faults trip the right monitor in time", T, q15, q31, float, double) {
+  using dqfx::safe_output;
+  for (const test_drive& d : {salient_drive(), fast_drive(), slow_drive()}) {
+    const double ts = 1 / d.plant.inverter.pwm_frequency, at = d.label == salient_drive().label || d.label == fast_drive().label ? 0.08 : 0.12;
+    const std::string label = name<T>() + " " + d.label;
+    {  // ADC at its rail: the amplifier of phase b shorted to the supply.
+      const reaction r = injected<T>(d, at, safe_output::all_off, no_change, [&](auto& h) {
+        h.inject = [at](sim::readings& x) { if (x.time >= at) x.current_code[1] = 4095; };
+      });
+      MESSAGE(label, ": ADC rail tripped ", std::string{r.cause == fault_cause::adc_rail ? "adc_rail" : "OTHER"},
+              " in faulty sample ", r.after_injection / ts + 1, " (rail time 2 periods)");
+      CHECK(r.cause == fault_cause::adc_rail);
+      CHECK(r.after_injection <= 2 * ts + 1e-9);
+      CHECK(r.safe);
+    }
+    {  // A broken PWM path holds phase a's high side on: a real over-current.
+      std::vector<sim::record> rows;
+      const dqfx::drive_parameters p = drive_design(d, safe_output::all_off);
+      const double threshold = p.protection.peak_current * d.base.base_current;
+      const reaction r = injected<T>(d, at, safe_output::all_off, no_change, [&](auto& h) { h.stuck_from = at; }, &rows);
+      const double crossing = first_time(rows, at, [&](const sim::record& x) {
+        return std::fmax(std::fabs(x.current.a), std::fmax(std::fabs(x.current.b), std::fabs(x.current.c))) > threshold;
+      });
+      const double reaction_time = r.after_injection + at - crossing;
+      MESSAGE(label, ": stuck phase: current above ", threshold, " A after ", (crossing - at) / ts,
+              " periods, tripped over_current in sample ", reaction_time / ts + 1, " above it");
+      CHECK(r.cause == fault_cause::over_current);
+      CHECK(reaction_time <= 2 * ts + 1e-9);  // debounce 1 period, plus the sample
+      CHECK(r.safe);
+    }
+    if (d.label != salient_drive().label) continue;
+    {  // The bus reading 40 % high (over-voltage), then 50 % low (under-voltage).
+      for (double factor : {1.4, 0.5}) {
+        const reaction r = injected<T>(d, at, safe_output::low_side_on, no_change, [&](auto& h) {
+          h.inject = [at, factor](sim::readings& x) { if (x.time >= at) x.bus_voltage *= factor; };
+        });
+        const fault_cause expected = factor > 1 ? fault_cause::over_voltage : fault_cause::under_voltage;
+        MESSAGE(label, ": bus reading x", factor, " tripped in faulty sample ", r.after_injection / ts + 1,
+                " (voltage time ", 1e-3 / ts, " periods)");
+        CHECK(r.cause == expected);
+        CHECK(r.after_injection <= 1e-3 + 1e-9);
+        CHECK(r.safe);
+      }
+    }
+    {  // Overload: a load of 90 % of the torque limit for good; the I^2 t estimate with a
+       // 0.1 s time constant trips on the cold curve of the current that flows.
+      std::vector<sim::record> rows;
+      const double torque_limit = 1.5 * d.plant.motor.pole_pairs * d.plant.motor.flux * d.current_limit;
+      const reaction r = injected<T>(d, at, safe_output::low_side_on, [&](dqfx::drive_parameters& p, sim::scenario& s) {
+        p.protection.thermal_time_constant = 0.1;
+        s.load = sim::profile{0.0}.step(at, 0.9 * torque_limit);
+        s.duration = at + 0.2;
+      }, [](auto&) {}, &rows);
+      const sim::spread_figures id = sim::spread(rows, &sim::record::id, at + 0.02, at + 0.05);
+      const sim::spread_figures iq = sim::spread(rows, &sim::record::iq, at + 0.02, at + 0.05);
+      const double ratio = std::hypot(id.mean, iq.mean) / (0.6 * d.current_limit);
+      const double expected = 0.1 * std::log(ratio * ratio / (ratio * ratio - 1));
+      MESSAGE(label, ": overload at ", ratio, " times the continuous current tripped after ", r.after_injection * 1e3,
+              " ms; cold curve ", expected * 1e3, " ms");
+      CHECK(r.cause == fault_cause::overload);
+      CHECK(r.after_injection == doctest::Approx(expected).epsilon(0.1));  // the current's rise and ripple
+      CHECK(r.safe);
+    }
+    {  // Over-speed: an overhauling load of 1.5 times the torque limit; threshold 0.4 pu.
+      std::vector<sim::record> rows;
+      const double torque_limit = 1.5 * d.plant.motor.pole_pairs * d.plant.motor.flux * d.current_limit;
+      const reaction r = injected<T>(d, at, safe_output::low_side_on, [&](dqfx::drive_parameters& p, sim::scenario& s) {
+        p.protection.over_speed = 0.4;
+        s.load = sim::profile{0.0}.step(at, -1.5 * torque_limit);
+      }, [](auto&) {}, &rows);
+      const double crossing = first_time(rows, at, [&](const sim::record& x) { return x.speed > mechanical(d, 0.4); });
+      const double filter = 1 / (8 * d.speed_bandwidth);
+      MESSAGE(label, ": over-speed tripped ", (r.after_injection + at - crossing) * 1e3,
+              " ms after the true speed crossed (over-speed time 1 ms, speed filter ", filter * 1e3, " ms)");
+      CHECK(r.cause == fault_cause::over_speed);
+      CHECK(r.after_injection + at - crossing <= 1e-3 + 3 * filter);
+      CHECK(r.safe);
+    }
+    {  // Encoder glitch of three periods (a noise burst on the A/B lines): refused readings.
+      const reaction r = injected<T>(d, at, safe_output::low_side_on, no_change, [&](auto& h) {
+        h.inject = [at, ts](sim::readings& x) { if (x.time >= at && x.time < at + 2.5 * ts) x.encoder_count += 100000; };
+      });
+      MESSAGE(label, ": encoder glitch tripped sensor in faulty sample ", r.after_injection / ts + 1, " (sensor time 2 periods)");
+      CHECK(r.cause == fault_cause::sensor);
+      CHECK(r.after_injection <= 2 * ts + 1e-9);
+      CHECK(r.safe);
+    }
+    {  // Encoder counter frozen while the shaft turns (a broken cable): stuck, lost, no angle.
+      const reaction r = injected<T>(d, at, safe_output::low_side_on, no_change, [&](auto& h) {
+        h.inject = [at, frozen = std::uint32_t{0}, held = false](sim::readings& x) mutable {
+          if (x.time < at) return;
+          if (!held) frozen = x.encoder_count;
+          held = true;
+          x.encoder_count = frozen;
+        };
+      });
+      MESSAGE(label, ": frozen encoder tripped ", std::string{r.cause == fault_cause::angle_lost ? "angle_lost" : "OTHER"},
+              " after ", r.after_injection * 1e3, " ms (angle time 1 ms after the stuck check)");
+      CHECK(r.cause == fault_cause::angle_lost);
+      CHECK(r.after_injection <= 3e-3);
+      CHECK(r.safe);
+    }
+  }
+}
+
+// Hall sensors as the angle source (the same drive type, another template argument): a
+// bad state (111, a broken pull-up) for three periods trips the sensor monitor.
+TEST_CASE_TEMPLATE("drive on the simulator: Hall sensors, and a Hall state 111 trips the sensor monitor", T, q15, q31,
+                   float, double) {
+  const test_drive d = salient_drive();
+  const double ts = 1 / d.plant.inverter.pwm_frequency, at = 0.1;
+  dqfx::hall_parameters hp{};
+  // The simulator's sensors: 5, 1, 3, 2, 6, 4 forward, the first from 0 (sensors.hpp).
+  hp.table = dqfx::hall_table::evenly({5, 1, 3, 2, 6, 4}, dqfx::angle{});
+  hp.base_speed = d.base.base_speed;
+  hp.sample_time = ts;
+  hp.tick_frequency = capture_clock;
+  harness<T, dqfx::hall_sensor<T>> h{d, drive_design(d, dqfx::safe_output::low_side_on), dqfx::hall_sensor<T>{hp},
+                                     [](dqfx::hall_sensor<T>& s, const sim::readings& r) {
+                                       const auto ticks = [](double t) {
+                                         return static_cast<std::uint32_t>(static_cast<std::uint64_t>(t * capture_clock));
+                                       };
+                                       s.update(r.hall, ticks(r.hall_edge_time < 0 ? 0.0 : r.hall_edge_time), ticks(r.time));
+                                     }};
+  h.inject = [&](sim::readings& x) { if (x.time >= at && x.time < at + 2.5 * ts) x.hall = 7; };
+  sim::scenario s;
+  s.duration = at + 0.02;
+  s.speed = sim::profile{mechanical(d, 0.3)};
+  const sim::run_result r = sim::run(d.plant, s, std::ref(h));
+  REQUIRE(r.outcome.ok());
+  const sim::spread_figures speed = sim::spread(r.records, &sim::record::speed, at - 0.02, at);
+  MESSAGE(name<T>(), ": Hall drive at ", speed.mean, " rad/s of ", mechanical(d, 0.3), "; state 111 tripped ",
+          std::string{h.last.cause == fault_cause::sensor ? "sensor" : "OTHER"}, " in faulty sample ",
+          (h.fault_time - at) / ts + 1);
+  CHECK(speed.mean == doctest::Approx(mechanical(d, 0.3)).epsilon(0.02));
+  CHECK(h.last.cause == fault_cause::sensor);
+  CHECK(h.fault_time - at <= 2 * ts + 1e-9);
+  reaction out;
+  check_safe(h, dqfx::safe_output::low_side_on, out);
+  CHECK(out.safe);
+}
+
+// After a fault: a clear is refused while the condition lasts and accepted after; the
+// restart calibrates again (the zero vector of `half` brakes the motor until the offsets
+// are accepted at standstill) and runs up with fresh integrators: no runaway, the speed
+// reached as on the first start.
+TEST_CASE_TEMPLATE("drive on the simulator: clear only when the condition is gone, restart with fresh integrators", T,
+                   q15, q31, float, double) {
+  const test_drive d = salient_drive();
+  const double at = 0.08, target = mechanical(d, 0.3);
+  auto h = encoder_harness<T>(d, dqfx::safe_output::half);
+  bool refused = false, accepted = false, restarted = false;
+  h.inject = [at](sim::readings& x) { if (x.time >= at && x.time < at + 0.01) x.bus_voltage *= 1.4; };
+  h.command = [&](dqfx::drive<T, dqfx::encoder<T>>& drive, double t) {
+    if (t >= at + 0.005 && !refused) refused = !drive.clear();
+    if (t >= at + 0.015 && !accepted) accepted = drive.clear();
+    if (accepted && !restarted) restarted = drive.start();
+  };
+  sim::scenario s;
+  s.duration = at + 0.5;
+  s.speed = sim::profile{target};
+  const sim::run_result r = sim::run(d.plant, s, std::ref(h));
+  REQUIRE(r.outcome.ok());
+  double restart_time = NAN;
+  for (std::size_t k = 1; k < h.states.size(); ++k)
+    if (h.states[k].second == drive_state::running && h.states[k].first > at) restart_time = h.states[k].first;
+  REQUIRE_FALSE(std::isnan(restart_time));
+  const sim::step_figures run_up = sim::step_response(r.records, &sim::record::speed, restart_time, s.duration, target, 0.02);
+  MESSAGE(name<T>(), ": running again after ", (restart_time - at) * 1e3, " ms (braked by the zero vector while "
+          "calibrating), overshoot ", run_up.overshoot * 100, " %, final ", r.records.back().speed, " rad/s of ", target);
+  CHECK(refused);
+  CHECK(accepted);
+  CHECK(restarted);
+  CHECK_FALSE(h.nan_duty);
+  CHECK(h.last.state == drive_state::running);
+  CHECK(run_up.overshoot < 0.1);
+  CHECK(r.records.back().speed == doctest::Approx(target).epsilon(0.01));
 }

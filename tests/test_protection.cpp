@@ -137,7 +137,7 @@ TEST_CASE_TEMPLATE("protection: thresholds, debounce times, hysteresis and prior
     CHECK(calls_to_trip(m, [&](auto& in, int) { in.angle_refused = true; }, cause) == 2);
     CHECK(cause == fault_cause::sensor);
   }
-  SUBCASE("ADC rail comes before the over-current it looks like") {
+  SUBCASE("ADC rail: a railed phase is judged by the rail monitor, not as a current") {
     dqfx::protection<T> m{p};
     CHECK(calls_to_trip(m, [&](auto& in, int) {
       in.current_code[1] = 4095;

@@ -27,7 +27,9 @@
 ///   sensor           the angle source refused readings (`fault()`: encoder jump, Hall
 ///                    000/111 or a non-adjacent state) in consecutive periods
 ///   adc_rail         a current code at 0 or full scale (a shorted or open amplifier,
-///                    or a current beyond the measuring range)
+///                    or a current beyond the measuring range); the over-current monitor
+///                    ignores a railed phase, so keep `rail_time` as short as the peak
+///                    current's time
 /// `check` returns the cause that trips this period, or `fault_cause::none`; when several
 /// trip together: adc_rail (a railed code is no current reading at all, and may be a
 /// current beyond the measuring range), over_current, over_voltage, under_voltage,
@@ -155,7 +157,12 @@ class protection {
   constexpr fault_cause check(const protection_inputs<T>& in) noexcept {
     const phases<T>& i = in.current;
     const bool currents_finite = arith::finite(i.a) && arith::finite(i.b) && arith::finite(i.c);
-    const T largest = max3(dqfx::abs(i.a), dqfx::abs(i.b), dqfx::abs(i.c));
+    // A railed code is no current reading: the rail monitor judges that phase.
+    const std::array<std::uint16_t, 3>& code = in.current_code;
+    const std::array<bool, 3> railed{rail_check_ && adc_.railed(code[0]), rail_check_ && adc_.railed(code[1]),
+                                     rail_check_ && adc_.railed(code[2])};
+    const T largest = max3(railed[0] ? T{} : dqfx::abs(i.a), railed[1] ? T{} : dqfx::abs(i.b),
+                           railed[2] ? T{} : dqfx::abs(i.c));
     const bool over_current = current_.update(!currents_finite || largest > peak_);
 
     // I^2 t: theta += g * (|i|^2/4 - theta), |i|^2/4 = (ia^2 + ib^2 + ic^2) / 6.
@@ -176,8 +183,7 @@ class protection {
     const bool over_voltage = over_voltage_hold_.update(!v_finite || v > over_voltage_);
     const bool under_voltage = under_voltage_hold_.update(v_finite && v < under_voltage_);
 
-    const std::array<std::uint16_t, 3>& code = in.current_code;
-    const bool rail = rail_hold_.update(rail_check_ && (adc_.railed(code[0]) || adc_.railed(code[1]) || adc_.railed(code[2])));
+    const bool rail = rail_hold_.update(railed[0] || railed[1] || railed[2]);
     const bool sensor = sensor_hold_.update(in.angle_refused);
     const bool lost = angle_hold_.update(in.angle_needed && !in.angle_valid);
     const bool fast = speed_hold_.update(!arith::finite(in.speed) || dqfx::abs(in.speed) > over_speed_);
