@@ -27,15 +27,15 @@ using namespace dqfx_test;
 /// The drive's parameters from the invented drive's data; monitors at thresholds of our
 /// own choosing (documented beside each).
 dqfx::drive_parameters drive_design(const test_drive& d, dqfx::safe_output safe) {
-  const double ts = 1 / d.plant.inverter.pwm_frequency;
+  const double period = 1 / d.plant.inverter.pwm_frequency;
   const double bus = d.plant.bus.source_voltage / d.base.base_voltage;
   const double limit = d.current_limit / d.base.base_current;
   dqfx::drive_parameters p{};
-  p.current = dqfx::design_current_loop(d.base, motor_data(d), d.current_bandwidth, ts);
+  p.current = dqfx::design_current_loop(d.base, motor_data(d), d.current_bandwidth, period);
   p.speed = speed_design(d, 0.0);
   p.torque = dqfx::design_torque_setpoint(d.base, motor_data(d), d.current_limit);
   dqfx::protection_parameters& m = p.protection;
-  m.sample_time = ts;
+  m.sample_time = period;
   m.peak_current = std::fmin(0.95, 1.5 * limit);  // half again the regulated limit
   m.continuous_current = 0.6 * limit;
   m.thermal_time_constant = 2.0;
@@ -46,11 +46,11 @@ dqfx::drive_parameters drive_design(const test_drive& d, dqfx::safe_output safe)
   m.over_speed = 0.9;
   m.over_speed_time = 1e-3;
   m.angle_time = 1e-3;
-  m.sensor_time = 2 * ts;
+  m.sensor_time = 2 * period;
   m.adc_bits = d.plant.adc.bits;
-  m.rail_time = 2 * ts;
+  m.rail_time = 2 * period;
   p.sequence.safe = safe;
-  p.sequence.stop_periods = static_cast<std::uint32_t>(1.0 / ts);
+  p.sequence.stop_periods = static_cast<std::uint32_t>(1.0 / period);
   p.adc = {d.plant.adc.bits, 0};
   p.amps_per_code = d.plant.adc.amps_per_code;
   p.base_current = d.base.base_current;
@@ -217,16 +217,17 @@ const auto no_change = [](dqfx::drive_parameters&, sim::scenario&) {};
 TEST_CASE_TEMPLATE("drive on the simulator: injected faults trip the right monitor in time", T, q15, q31, float, double) {
   using dqfx::safe_output;
   for (const test_drive& d : {salient_drive(), fast_drive(), slow_drive()}) {
-    const double ts = 1 / d.plant.inverter.pwm_frequency, at = d.label == salient_drive().label || d.label == fast_drive().label ? 0.08 : 0.12;
+    // After the start: the slow drive calibrates and accelerates longest.
+    const double period = 1 / d.plant.inverter.pwm_frequency, at = d.plant.inverter.pwm_frequency < 10e3 ? 0.12 : 0.08;
     const std::string label = name<T>() + " " + d.label;
     {  // ADC at its rail: the amplifier of phase b shorted to the supply.
       const reaction r = injected<T>(d, at, safe_output::all_off, no_change, [&](auto& h) {
         h.inject = [at](sim::readings& x) { if (x.time >= at) x.current_code[1] = 4095; };
       });
       MESSAGE(label, ": ADC rail tripped ", std::string{r.cause == fault_cause::adc_rail ? "adc_rail" : "OTHER"},
-              " in faulty sample ", r.after_injection / ts + 1, " (rail time 2 periods)");
+              " in faulty sample ", r.after_injection / period + 1, " (rail time 2 periods)");
       CHECK(r.cause == fault_cause::adc_rail);
-      CHECK(r.after_injection <= 2 * ts + 1e-9);
+      CHECK(r.after_injection <= 2 * period + 1e-9);
       CHECK(r.safe);
     }
     {  // A broken PWM path holds phase a's high side on: a real over-current.
@@ -238,21 +239,21 @@ TEST_CASE_TEMPLATE("drive on the simulator: injected faults trip the right monit
         return std::fmax(std::fabs(x.current.a), std::fmax(std::fabs(x.current.b), std::fabs(x.current.c))) > threshold;
       });
       const double reaction_time = r.after_injection + at - crossing;
-      MESSAGE(label, ": stuck phase: current above ", threshold, " A after ", (crossing - at) / ts,
-              " periods, tripped over_current in sample ", reaction_time / ts + 1, " above it");
+      MESSAGE(label, ": stuck phase: current above ", threshold, " A after ", (crossing - at) / period,
+              " periods, tripped over_current in sample ", reaction_time / period + 1, " above it");
       CHECK(r.cause == fault_cause::over_current);
-      CHECK(reaction_time <= 2 * ts + 1e-9);  // debounce 1 period, plus the sample
+      CHECK(reaction_time <= 2 * period + 1e-9);  // debounce 1 period, plus the sample
       CHECK(r.safe);
     }
-    if (d.label != salient_drive().label) continue;
+    if (std::string{d.label} != salient_drive().label) continue;
     {  // The bus reading 40 % high (over-voltage), then 50 % low (under-voltage).
       for (double factor : {1.4, 0.5}) {
         const reaction r = injected<T>(d, at, safe_output::low_side_on, no_change, [&](auto& h) {
           h.inject = [at, factor](sim::readings& x) { if (x.time >= at) x.bus_voltage *= factor; };
         });
         const fault_cause expected = factor > 1 ? fault_cause::over_voltage : fault_cause::under_voltage;
-        MESSAGE(label, ": bus reading x", factor, " tripped in faulty sample ", r.after_injection / ts + 1,
-                " (voltage time ", 1e-3 / ts, " periods)");
+        MESSAGE(label, ": bus reading x", factor, " tripped in faulty sample ", r.after_injection / period + 1,
+                " (voltage time ", 1e-3 / period, " periods)");
         CHECK(r.cause == expected);
         CHECK(r.after_injection <= 1e-3 + 1e-9);
         CHECK(r.safe);
@@ -294,11 +295,11 @@ TEST_CASE_TEMPLATE("drive on the simulator: injected faults trip the right monit
     }
     {  // Encoder glitch of three periods (a noise burst on the A/B lines): refused readings.
       const reaction r = injected<T>(d, at, safe_output::low_side_on, no_change, [&](auto& h) {
-        h.inject = [at, ts](sim::readings& x) { if (x.time >= at && x.time < at + 2.5 * ts) x.encoder_count += 100000; };
+        h.inject = [at, period](sim::readings& x) { if (x.time >= at && x.time < at + 2.5 * period) x.encoder_count += 100000; };
       });
-      MESSAGE(label, ": encoder glitch tripped sensor in faulty sample ", r.after_injection / ts + 1, " (sensor time 2 periods)");
+      MESSAGE(label, ": encoder glitch tripped sensor in faulty sample ", r.after_injection / period + 1, " (sensor time 2 periods)");
       CHECK(r.cause == fault_cause::sensor);
-      CHECK(r.after_injection <= 2 * ts + 1e-9);
+      CHECK(r.after_injection <= 2 * period + 1e-9);
       CHECK(r.safe);
     }
     {  // Encoder counter frozen while the shaft turns (a broken cable): stuck, lost, no angle.
@@ -324,12 +325,12 @@ TEST_CASE_TEMPLATE("drive on the simulator: injected faults trip the right monit
 TEST_CASE_TEMPLATE("drive on the simulator: Hall sensors, and a Hall state 111 trips the sensor monitor", T, q15, q31,
                    float, double) {
   const test_drive d = salient_drive();
-  const double ts = 1 / d.plant.inverter.pwm_frequency, at = 0.1;
+  const double period = 1 / d.plant.inverter.pwm_frequency, at = 0.1;
   dqfx::hall_parameters hp{};
   // The simulator's sensors: 5, 1, 3, 2, 6, 4 forward, the first from 0 (sensors.hpp).
   hp.table = dqfx::hall_table::evenly({5, 1, 3, 2, 6, 4}, dqfx::angle{});
   hp.base_speed = d.base.base_speed;
-  hp.sample_time = ts;
+  hp.sample_time = period;
   hp.tick_frequency = capture_clock;
   harness<T, dqfx::hall_sensor<T>> h{d, drive_design(d, dqfx::safe_output::low_side_on), dqfx::hall_sensor<T>{hp},
                                      [](dqfx::hall_sensor<T>& s, const sim::readings& r) {
@@ -338,7 +339,7 @@ TEST_CASE_TEMPLATE("drive on the simulator: Hall sensors, and a Hall state 111 t
                                        };
                                        s.update(r.hall, ticks(r.hall_edge_time < 0 ? 0.0 : r.hall_edge_time), ticks(r.time));
                                      }};
-  h.inject = [&](sim::readings& x) { if (x.time >= at && x.time < at + 2.5 * ts) x.hall = 7; };
+  h.inject = [&](sim::readings& x) { if (x.time >= at && x.time < at + 2.5 * period) x.hall = 7; };
   sim::scenario s;
   s.duration = at + 0.02;
   s.speed = sim::profile{mechanical(d, 0.3)};
@@ -347,10 +348,10 @@ TEST_CASE_TEMPLATE("drive on the simulator: Hall sensors, and a Hall state 111 t
   const sim::spread_figures speed = sim::spread(r.records, &sim::record::speed, at - 0.02, at);
   MESSAGE(name<T>(), ": Hall drive at ", speed.mean, " rad/s of ", mechanical(d, 0.3), "; state 111 tripped ",
           std::string{h.last.cause == fault_cause::sensor ? "sensor" : "OTHER"}, " in faulty sample ",
-          (h.fault_time - at) / ts + 1);
+          (h.fault_time - at) / period + 1);
   CHECK(speed.mean == doctest::Approx(mechanical(d, 0.3)).epsilon(0.02));
   CHECK(h.last.cause == fault_cause::sensor);
-  CHECK(h.fault_time - at <= 2 * ts + 1e-9);
+  CHECK(h.fault_time - at <= 2 * period + 1e-9);
   reaction out;
   check_safe(h, dqfx::safe_output::low_side_on, out);
   CHECK(out.safe);
