@@ -44,6 +44,58 @@
 
 namespace dqfx {
 
+/// The three current channels' offsets from codes taken at zero current: a run of
+/// `samples` periods is accepted when all three channels are (spread within the limit, no
+/// bad code), and otherwise starts again (current flowed: a turning motor, or noise).
+template <class T>
+class phase_offsets {
+ public:
+  constexpr phase_offsets(const current_channel<T>& channel, std::uint32_t samples, std::uint16_t spread) noexcept
+      : channel_{channel},
+        runs_{{channel.format(), samples, spread}, {channel.format(), samples, spread}, {channel.format(), samples, spread}},
+        channels_{channel, channel, channel} {}
+
+  /// One period's codes; true once a run has been accepted.
+  constexpr bool add(const std::array<std::uint16_t, 3>& code) noexcept {
+    if (calibrated_) return true;
+    runs_.a.add({code[0], true});
+    runs_.b.add({code[1], true});
+    runs_.c.add({code[2], true});
+    if (!runs_.a.complete()) return false;
+    if (runs_.a.accepted() && runs_.b.accepted() && runs_.c.accepted()) {
+      channels_ = {channel_.with_offset(runs_.a.offset()), channel_.with_offset(runs_.b.offset()),
+                   channel_.with_offset(runs_.c.offset())};
+      calibrated_ = true;
+    } else {
+      restart_runs();
+    }
+    return calibrated_;
+  }
+  /// Forgets the accepted offsets too (a new calibration before each start).
+  constexpr void restart() noexcept {
+    restart_runs();
+    calibrated_ = false;
+  }
+  constexpr bool calibrated() const noexcept { return calibrated_; }
+  /// The channels with the accepted offsets (mid-scale offsets until then).
+  constexpr const phases<current_channel<T>>& channels() const noexcept { return channels_; }
+  /// Per-unit phase currents of three codes.
+  constexpr phases<T> currents(const std::array<std::uint16_t, 3>& code) const noexcept {
+    return {channels_.a.current(code[0]), channels_.b.current(code[1]), channels_.c.current(code[2])};
+  }
+
+ private:
+  constexpr void restart_runs() noexcept {
+    runs_.a.restart();
+    runs_.b.restart();
+    runs_.c.restart();
+  }
+  current_channel<T> channel_;
+  phases<offset_calibration<T>> runs_;
+  phases<current_channel<T>> channels_;
+  bool calibrated_ = false;
+};
+
 /// Everything the drive is built from (per unit; see the design_* functions).
 struct drive_parameters {
   current_loop_parameters current{};
@@ -92,15 +144,12 @@ class drive {
         torque_{p.torque},
         monitors_{p.protection},
         sequence_{p.sequence},
-        channel_{current_channel<T>::from_amplifier(p.adc, p.amps_per_code, p.base_current)},
-        calibration_{{p.adc, p.calibration_periods, p.calibration_spread},
-                     {p.adc, p.calibration_periods, p.calibration_spread},
-                     {p.adc, p.calibration_periods, p.calibration_spread}},
-        channels_{channel_, channel_, channel_},
+        offsets_{current_channel<T>::from_amplifier(p.adc, p.amps_per_code, p.base_current), p.calibration_periods,
+                 p.calibration_spread},
         divider_{p.speed_divider < 2 ? 2u : p.speed_divider},
         align_current_{detail::clamp_to_range<T>(p.align_current)},
         still_{detail::clamp_to_range<T>(p.still_speed)},
-        parameter_fault_{speed_.parameter_fault() || channel_.parameter_fault() || !p.torque.valid()} {}
+        parameter_fault_{speed_.parameter_fault() || offsets_.channels().a.parameter_fault() || !p.torque.valid()} {}
 
   /// Requests a start (from `stopped` only; refused with a parameter fault).
   constexpr bool start() noexcept {
@@ -125,11 +174,10 @@ class drive {
   drive_output<T> step(const drive_inputs<T>& in, Source& source) noexcept {
     const drive_state before = sequence_.state();
     const bool still = dqfx::abs(source.speed()) < still_;
-    sequence_.advance(calibrated_, still);
-    if (sequence_.state() == drive_state::calibrating) calibrate(in);
+    sequence_.advance(offsets_.calibrated(), still);
+    if (sequence_.state() == drive_state::calibrating) offsets_.add(in.current_code);
 
-    const phases<T> current{channels_.a.current(in.current_code[0]), channels_.b.current(in.current_code[1]),
-                            channels_.c.current(in.current_code[2])};
+    const phases<T> current = offsets_.currents(in.current_code);
     protection_inputs<T> watch{current, in.bus_voltage, source.speed(), sequence_.needs_angle(), source.valid(),
                                source.fault(), in.current_code};
     source.clear_faults();
@@ -159,7 +207,7 @@ class drive {
   constexpr drive_state state() const noexcept { return sequence_.state(); }
   constexpr fault_cause cause() const noexcept { return sequence_.cause(); }
   constexpr bool parameter_fault() const noexcept { return parameter_fault_; }
-  constexpr bool calibrated() const noexcept { return calibrated_; }
+  constexpr bool calibrated() const noexcept { return offsets_.calibrated(); }
   constexpr const protection<T>& monitors() const noexcept { return monitors_; }
   constexpr const speed_regulator<T, AntiWindup>& speed_loop() const noexcept { return speed_; }
   constexpr rotating<T> setpoint() const noexcept { return setpoint_; }
@@ -168,34 +216,12 @@ class drive {
   /// The stated integrator rule (file comment) and a fresh calibration per start.
   constexpr void enter(drive_state s, T speed) noexcept {
     phase_ = 0;
-    if (s == drive_state::calibrating) {
-      calibrated_ = false;
-      calibration_.a.restart();
-      calibration_.b.restart();
-      calibration_.c.restart();
-    }
+    if (s == drive_state::calibrating) offsets_.restart();
     if (s == drive_state::aligning || s == drive_state::running) {
       loop_.reset();
       speed_.reset(speed);
       torque_demand_ = T{};
       setpoint_ = {};
-    }
-  }
-
-  constexpr void calibrate(const drive_inputs<T>& in) noexcept {
-    calibration_.a.add({in.current_code[0], true});
-    calibration_.b.add({in.current_code[1], true});
-    calibration_.c.add({in.current_code[2], true});
-    if (!calibration_.a.complete()) return;
-    if (calibration_.a.accepted() && calibration_.b.accepted() && calibration_.c.accepted()) {
-      channels_ = {channel_.with_offset(calibration_.a.offset()), channel_.with_offset(calibration_.b.offset()),
-                   channel_.with_offset(calibration_.c.offset())};
-      calibrated_ = true;
-    } else {
-      // Current flowed (a turning motor) or noise: try again; the user may stop().
-      calibration_.a.restart();
-      calibration_.b.restart();
-      calibration_.c.restart();
     }
   }
 
@@ -226,14 +252,11 @@ class drive {
   torque_setpoint<T> torque_;
   protection<T> monitors_;
   drive_sequence sequence_;
-  current_channel<T> channel_;
-  phases<offset_calibration<T>> calibration_;
-  phases<current_channel<T>> channels_;
+  phase_offsets<T> offsets_;
   std::uint32_t divider_;
   T align_current_;
   T still_;
   bool parameter_fault_;
-  bool calibrated_ = false;
   std::uint32_t phase_ = 0;
   T target_{};
   T torque_demand_{};
