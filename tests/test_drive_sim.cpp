@@ -393,3 +393,40 @@ TEST_CASE_TEMPLATE("drive on the simulator: clear only when the condition is gon
   CHECK(run_up.overshoot < 0.1);
   CHECK(r.records.back().speed == doctest::Approx(target).epsilon(0.01));
 }
+
+// The optional alignment stage: d current at the forced angle 0 pulls the rotor from any
+// start angle to the d axis on phase a, then the drive runs on the encoder.
+TEST_CASE_TEMPLATE("drive on the simulator: alignment pulls the rotor to the d axis, then it runs", T, q15, q31, float,
+                   double) {
+  const test_drive d = salient_drive();
+  const double period = 1 / d.plant.inverter.pwm_frequency, align = 0.06;
+  dqfx::drive_parameters p = drive_design(d, dqfx::safe_output::half);
+  p.sequence.align_periods = static_cast<std::uint32_t>(align / period);
+  p.align_current = 0.3 * d.current_limit / d.base.base_current;
+  // Critical damping of the swing about the forced angle (drive.hpp, align_damping).
+  const sim::motor_parameters& m = d.plant.motor;
+  const double kt = 1.5 * m.pole_pairs * m.flux, wn = std::sqrt(kt * 0.3 * d.current_limit * m.pole_pairs / m.inertia);
+  p.align_damping = 2 * wn * m.inertia / (kt * m.pole_pairs) * d.base.base_speed / d.base.base_current;
+  harness<T, dqfx::encoder<T>> h{d, p, dqfx::encoder<T>{encoder_for(d)},
+                                 [](dqfx::encoder<T>& e, const sim::readings& r) { read_encoder(e, r); }};
+  sim::scenario s;
+  s.duration = 0.2;
+  s.speed = sim::profile{mechanical(d, 0.3)};
+  s.initial.position = 2.0 / d.plant.motor.pole_pairs;  // 115 electrical degrees off
+  const sim::run_result r = sim::run(d.plant, s, std::ref(h));
+  REQUIRE(r.outcome.ok());
+  REQUIRE(h.states.size() >= 4);
+  CHECK(h.states[2].second == drive_state::aligning);
+  CHECK(h.states[3].second == drive_state::running);
+  const double end = h.states[3].first;
+  const sim::record* at_end = nullptr;
+  for (const sim::record& x : r.records)
+    if (x.time < end) at_end = &x;
+  REQUIRE(at_end != nullptr);
+  const double off = std::remainder(at_end->angle, 2 * pi) * 180 / pi;
+  const sim::spread_figures speed = sim::spread(r.records, &sim::record::speed, 0.18, 0.2);
+  MESSAGE(name<T>(), ": aligned to ", off, " electrical degrees, then ", speed.mean, " rad/s of ", mechanical(d, 0.3));
+  CHECK(std::fabs(off) < 5.0);
+  CHECK(speed.mean == doctest::Approx(mechanical(d, 0.3)).epsilon(0.01));
+  CHECK(std::isnan(h.fault_time));
+}

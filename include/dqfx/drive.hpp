@@ -110,6 +110,10 @@ struct drive_parameters {
   std::uint16_t calibration_spread = 64;  ///< largest code spread accepted at zero current
   std::uint32_t speed_divider = 8;        ///< PWM periods per speed-loop sample, >= 2
   double align_current = 0.0;             ///< pu d current while aligning
+  /// pu q current (of the forced frame) per pu electrical speed while aligning, from a
+  /// source that is valid at standstill (encoder, Hall): damps the rotor's swing about the
+  /// forced angle. 2 zeta wn J / (Kt p) A per electrical rad/s, wn^2 = Kt I p / J. 0: none.
+  double align_damping = 0.0;
   double still_speed = 0.01;              ///< pu: below this |speed| stopping ends
 };
 
@@ -148,6 +152,7 @@ class drive {
                  p.calibration_spread},
         divider_{p.speed_divider < 2 ? 2u : p.speed_divider},
         align_current_{detail::clamp_to_range<T>(p.align_current)},
+        align_damping_{gain<T>::from_double(p.align_damping)},
         still_{detail::clamp_to_range<T>(p.still_speed)},
         parameter_fault_{speed_.parameter_fault() || offsets_.channels().a.parameter_fault() || !p.torque.valid()} {}
 
@@ -231,7 +236,7 @@ class drive {
     in.bus_voltage = bus;
     if (sequence_.state() == drive_state::aligning) {
       in.rotor = sincos_of<T>(angle{});  // d axis on phase a
-      in.setpoint = {align_current_, T{}};
+      in.setpoint = {align_current_, source.valid() ? -(source.speed() * align_damping_) : T{}};
       return loop_.step(in);
     }
     const T speed = source.speed();
@@ -255,6 +260,7 @@ class drive {
   phase_offsets<T> offsets_;
   std::uint32_t divider_;
   T align_current_;
+  gain<T> align_damping_;
   T still_;
   bool parameter_fault_;
   std::uint32_t phase_ = 0;
