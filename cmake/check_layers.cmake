@@ -15,7 +15,7 @@ set(layer_2 angle sincos polar gain_design per_unit)
 set(layer_3 transforms svm pwm current_sensing pi_regulator)
 set(layer_4 current_loop torque_setpoint field_weakening encoder hall hall_learner tracking_pll
   flux_observer open_loop_start)
-set(layer_5 "")
+set(layer_5 speed_regulator protection drive_sequence drive)
 set(layer_6 dqfx)
 foreach(n RANGE 1 6)
   foreach(h IN LISTS layer_${n})

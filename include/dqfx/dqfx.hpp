@@ -6,6 +6,8 @@
 #include "dqfx/angle.hpp"             // binary angle, electrical angle, angle_rate
 #include "dqfx/current_loop.hpp"      // the per-PWM-period current-loop step
 #include "dqfx/current_sensing.hpp"   // ADC codes to per-unit currents, shunt reconstruction
+#include "dqfx/drive.hpp"             // the whole drive, one call per PWM period
+#include "dqfx/drive_sequence.hpp"    // stopped, calibrating, aligning, running, stopping, fault
 #include "dqfx/encoder.hpp"           // incremental encoder angle and speed
 #include "dqfx/extended.hpp"          // extended-precision intermediates for one rounding
 #include "dqfx/field_weakening.hpp"   // voltage-feedback field weakening, MTPV limit
@@ -20,9 +22,11 @@
 #include "dqfx/per_unit.hpp"          // per-unit bases, compile-time checked conversions
 #include "dqfx/pi_regulator.hpp"      // PI with anti-windup
 #include "dqfx/polar.hpp"             // angle_of (atan2), magnitude
+#include "dqfx/protection.hpp"        // software protection monitors (behind hardware protection)
 #include "dqfx/pwm.hpp"               // duties to timer compare values, dead-time compensation
 #include "dqfx/saturation.hpp"        // opt-in saturation counting for host tests
 #include "dqfx/sincos.hpp"            // sine and cosine of a binary angle
+#include "dqfx/speed_regulator.hpp"   // speed loop: ramp, set-point weighting, torque limit
 #include "dqfx/svm.hpp"               // space-vector modulation
 #include "dqfx/torque_setpoint.hpp"   // torque to d/q current set-points (MTPA, limits)
 #include "dqfx/tracking_pll.hpp"      // angle-tracking PLL

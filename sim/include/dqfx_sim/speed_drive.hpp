@@ -25,6 +25,7 @@
 #include "dqfx/angle.hpp"
 #include "dqfx/current_loop.hpp"
 #include "dqfx/current_sensing.hpp"
+#include "dqfx/drive.hpp"  // phase_offsets
 #include "dqfx/gain_design.hpp"
 #include "dqfx/per_unit.hpp"
 #include "dqfx/pi_regulator.hpp"
@@ -65,9 +66,7 @@ class speed_drive {
         speed_pi_{speed_parameters(d)},
         format_{d.plant.adc.bits, 4},
         channel_{current_channel<T>::from_amplifier(format_, d.plant.adc.amps_per_code, d.base.base_current)},
-        calibration_{{format_, d.calibration_periods, d.calibration_spread},
-                     {format_, d.calibration_periods, d.calibration_spread},
-                     {format_, d.calibration_periods, d.calibration_spread}},
+        offsets_{channel_, d.calibration_periods, d.calibration_spread},
         speed_scale_{gain<T>::from_double(pi / ((d.speed_window ? d.speed_window : 1) * sample_time_ * d.base.base_speed))},
         window_{d.speed_window < 1 ? 1u : (d.speed_window > 64 ? 64u : d.speed_window)},
         id_setpoint_{from_double<T>(d.id_setpoint / d.base.base_current)},
@@ -79,8 +78,8 @@ class speed_drive {
   /// One PWM period (the controller interface of `run`).
   phases<T> operator()(const readings& r, const command& c, probe& p) {
     const T half = from_double<T>(0.5);
-    if (!calibrated_) {
-      calibrate(r);
+    if (!offsets_.calibrated()) {
+      offsets_.add(r.current_code);
       return {half, half, half};
     }
     const angle rotor = electrical_angle(r.encoder_count);
@@ -90,8 +89,7 @@ class speed_drive {
     ++periods_;
 
     current_loop_input<T> in;
-    in.current = {channels_.a.current(r.current_code[0]), channels_.b.current(r.current_code[1]),
-                  channels_.c.current(r.current_code[2])};
+    in.current = offsets_.currents(r.current_code);
     in.rotor = sincos_of<T>(rotor);
     in.speed = speed_;
     in.setpoint = {id_setpoint_, iq_setpoint_};
@@ -106,7 +104,7 @@ class speed_drive {
     return last_.duty;
   }
 
-  bool calibrated() const noexcept { return calibrated_; }
+  bool calibrated() const noexcept { return offsets_.calibrated(); }
   const current_loop_output<T>& last_output() const noexcept { return last_; }
   current_loop<T>& loop() noexcept { return loop_; }
 
@@ -120,22 +118,6 @@ class speed_drive {
     p.upper = d.current_limit / d.base.base_current;
     p.lower = -p.upper;
     return p;
-  }
-
-  void calibrate(const readings& r) {
-    calibration_.a.add({r.current_code[0], true});
-    calibration_.b.add({r.current_code[1], true});
-    calibration_.c.add({r.current_code[2], true});
-    if (!calibration_.a.complete()) return;
-    if (calibration_.a.accepted() && calibration_.b.accepted() && calibration_.c.accepted()) {
-      channels_ = {channel_.with_offset(calibration_.a.offset()), channel_.with_offset(calibration_.b.offset()),
-                   channel_.with_offset(calibration_.c.offset())};
-      calibrated_ = true;
-    } else {
-      calibration_.a.restart();
-      calibration_.b.restart();
-      calibration_.c.restart();
-    }
   }
 
   /// Counter to electrical angle: the count within the turn as a binary angle (exact for
@@ -186,13 +168,11 @@ class speed_drive {
   pi_regulator<T, conditional_integration> speed_pi_;
   adc_format format_;
   current_channel<T> channel_;
-  phases<offset_calibration<T>> calibration_;
-  phases<current_channel<T>> channels_{};
+  phase_offsets<T> offsets_;
   gain<T> speed_scale_;
   unsigned window_;
   std::array<angle, 64> history_{};
   std::uint64_t periods_ = 0;
-  bool calibrated_ = false;
   T id_setpoint_{};
   gain<T> flux_;
   torque_setpoint<T> mtpa_;
