@@ -44,6 +44,12 @@
 #else
 #define DQFX_TARGET_OPAQUE __attribute__((noinline))
 #endif
+// The timed wrapper inlines everything the kernel calls (as a firmware's small interrupt
+// translation unit would let the compiler do), so that a kernel's count does not depend
+// on how many other kernels this one large translation unit holds: GCC's inliner stops
+// at a growth limit of the whole unit, and a kernel added to the registry used to move
+// the figures of others by a call or two.
+#define DQFX_TARGET_WHOLE __attribute__((flatten))
 
 namespace dqfx_target {
 
@@ -390,13 +396,13 @@ struct step_phase_regulators {
   template <class T> struct input {
     step_regulators<T> regulators;
     dqfx::rotating<T> current, setpoint;
-    T speed;
+    T speed, bus;
   };
   template <class T> using output = dqfx::rotating<T>;
   template <class T> static input<T> make(random_bits& r) noexcept {
     const current_step::input<T> s = current_step::make<T>(r);
     return {step_regulators<T>::of(s), dqfx::park(dqfx::clarke(s.current), dqfx::sincos_of<T>(s.rotor)), s.setpoint,
-            s.speed};
+            s.speed, s.bus};
   }
   template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
     const auto p = in.regulators.propose(in.current, in.speed, in.setpoint);
@@ -414,10 +420,9 @@ struct step_phase_limit {
   };
   template <class T> using output = dqfx::rotating<T>;
   template <class T> static input<T> make(random_bits& r) noexcept {
-    const current_step::input<T> s = current_step::make<T>(r);
-    const step_regulators<T> g = step_regulators<T>::of(s);
-    const auto p = g.propose(dqfx::park(dqfx::clarke(s.current), dqfx::sincos_of<T>(s.rotor)), s.speed, s.setpoint);
-    return {g, p.first, p.second, s.bus * dqfx::gain<T>::from_double(0.57735026918962576451)};
+    const step_phase_regulators::input<T> s = step_phase_regulators::make<T>(r);
+    const auto p = s.regulators.propose(s.current, s.speed, s.setpoint);
+    return {s.regulators, p.first, p.second, s.bus * dqfx::gain<T>::from_double(0.57735026918962576451)};
   }
   template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
     using access = dqfx::detail::pi_internals;
@@ -777,7 +782,7 @@ template <class T> constexpr const char* type_name() noexcept {
 /// The timed call: reads one input (and updates it if the kernel has state), runs the
 /// kernel (inlined here), writes one output.
 template <class K, class T>
-DQFX_TARGET_OPAQUE void call(void* input, void* output) {
+DQFX_TARGET_OPAQUE DQFX_TARGET_WHOLE void call(void* input, void* output) {
   using in_t = typename K::template input<T>;
   using out_t = typename K::template output<T>;
   ::new (output) out_t(K::template run<T>(*static_cast<in_t*>(input)));

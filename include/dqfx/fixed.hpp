@@ -32,9 +32,8 @@ constexpr std::int32_t saturate_signed(std::int32_t v) noexcept {
   // which -Wpedantic refuses); GCC declares its result unsigned, the bits are signed.
   if (!__builtin_is_constant_evaluated()) return static_cast<std::int32_t>(__builtin_arm_ssat(v, Bits));
 #endif
-  constexpr std::int32_t hi = static_cast<std::int32_t>((std::int64_t{1} << (Bits - 1)) - 1);
-  constexpr std::int32_t lo = -hi - 1;
-  return v > hi ? hi : (v < lo ? lo : v);
+  constexpr auto hi = static_cast<std::int32_t>((std::int64_t{1} << (Bits - 1)) - 1);
+  return v > hi ? hi : (v < -hi - 1 ? -hi - 1 : v);
 }
 
 /// v clamped into [0, 2^Bits - 1] (Bits <= 31): one USAT where the core has it, two
@@ -45,8 +44,7 @@ constexpr std::int32_t saturate_unsigned(std::int32_t v) noexcept {
 #if defined(__ARM_FEATURE_SAT)
   if (!__builtin_is_constant_evaluated()) return static_cast<std::int32_t>(__builtin_arm_usat(v, Bits));
 #endif
-  constexpr std::int32_t hi = static_cast<std::int32_t>((std::int64_t{1} << Bits) - 1);
-  return v > hi ? hi : (v < 0 ? 0 : v);
+  return v < 0 ? 0 : (v >> Bits != 0 ? static_cast<std::int32_t>((std::int64_t{1} << Bits) - 1) : v);
 }
 
 template <class Raw> struct wide_of;

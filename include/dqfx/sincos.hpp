@@ -148,6 +148,17 @@ template <class F> struct floating_quadrant_sincos {
 template <> struct quadrant_sincos<float> : floating_quadrant_sincos<float> {};
 template <> struct quadrant_sincos<double> : floating_quadrant_sincos<double> {};
 
+/// -x for x within [-max(), max()], as every sine and cosine here is: exact, so there is
+/// no saturation to check (one instruction for q15/q31 instead of a negate and a clamp).
+template <class T>
+constexpr T negate_within_range(T x) noexcept {
+  if constexpr (is_fixed_v<T>) {
+    return T::from_raw(static_cast<typename T::raw_type>(-x.raw()));
+  } else {
+    return -x;
+  }
+}
+
 }  // namespace detail
 
 /// Sine and cosine of `a`, computed together (one reduction, shared by Park and inverse
@@ -161,11 +172,11 @@ constexpr sincos<T> sincos_of(angle a) noexcept {
   if (quadrant & 1u) {
     const T s = r.sin;
     r.sin = r.cos;
-    r.cos = -s;
+    r.cos = detail::negate_within_range(s);
   }
   if (quadrant & 2u) {
-    r.sin = -r.sin;
-    r.cos = -r.cos;
+    r.sin = detail::negate_within_range(r.sin);
+    r.cos = detail::negate_within_range(r.cos);
   }
   return r;
 }
