@@ -86,7 +86,7 @@ constexpr std::int32_t rounded_product16_wide(std::int32_t d, std::int32_t m, in
   const auto top = static_cast<std::int32_t>((static_cast<std::int64_t>(d * 32768) * m) >> 32);
   // The same value two ways: a known shift folds the rounding constant (two
   // instructions); a run-time one (a regulator's gain) is cheaper without building it.
-  if (__builtin_constant_p(shift)) return (top + (1 << (shift - 18))) >> (shift - 17);
+  if (__builtin_constant_p(shift) != 0) return (top + (1 << (shift - 18))) >> (shift - 17);
   return round_shift(top, shift - 17);
 }
 
@@ -97,7 +97,7 @@ constexpr std::int32_t rounded_product16_narrow(std::int32_t d, std::int32_t m, 
   const std::int32_t high = m >> 16, mid = (m >> 8) & 0xFF, low = m & 0xFF;
   const std::int32_t u = d * mid + ((d * low) >> 8);
   const std::int32_t v = d * high + (u >> 8);
-  if (__builtin_constant_p(shift)) return (v + (1 << (shift - 17))) >> (shift - 16);
+  if (__builtin_constant_p(shift) != 0) return (v + (1 << (shift - 17))) >> (shift - 16);
   return round_shift(v, shift - 16);
 }
 
