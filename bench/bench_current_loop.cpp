@@ -1,12 +1,17 @@
 // SPDX-License-Identifier: MIT
 // The whole current-loop step per type, beside the textbook float/double step of
 // tests/reference (std::sin/std::cos from the angle, std::sqrt limit, sector SVM).
-// Both get the same 1024 varied periods; the dqfx step also computes sincos_of<T>.
+// Both get the same 1024 varied periods; the dqfx step also computes sincos_of<T>. The
+// textbook rows run first and each dqfx row reports x_float / x_double: its time per call
+// over the textbook step's, measured in the same run (ratios, not absolute times).
 #include <benchmark/benchmark.h>
 
 #include <array>
 #include <cmath>
 #include <cstddef>
+#include <string>
+
+#include "baseline_ratio.hpp"
 
 #include "dqfx/current_loop.hpp"
 #include "dqfx/sincos.hpp"
@@ -58,6 +63,7 @@ template <class T> void bench_dqfx_step(benchmark::State& state) {
   }
   dqfx::current_loop<T> loop{parameters};
   std::size_t k = 0;
+  const dqfx_bench::loop_timer timer;
   for (auto _ : state) {
     const prepared& x = in[k++ & 1023];
     dqfx::current_loop_input<T> step_in{x.current, dqfx::sincos_of<T>(x.rotor), x.speed, x.setpoint, x.bus};
@@ -65,6 +71,7 @@ template <class T> void bench_dqfx_step(benchmark::State& state) {
     const dqfx::current_loop_output<T> out = loop.step(step_in);
     benchmark::DoNotOptimize(out);
   }
+  dqfx_bench::report_ratios(state, "current_loop/textbook_", timer.ns_per_call(state));
 }
 
 template <class F> void bench_textbook_step(benchmark::State& state) {
@@ -80,6 +87,7 @@ template <class F> void bench_textbook_step(benchmark::State& state) {
   loop.lq = F(parameters.lq);
   loop.flux = F(parameters.flux);
   std::size_t k = 0;
+  const dqfx_bench::loop_timer timer;
   for (auto _ : state) {
     const period& x = p[k++ & 1023];
     F in[8] = {F(x.ia), F(x.ib), F(x.ic), F(x.theta), F(x.speed), F(x.id_ref), F(x.iq_ref), F(x.vdc)};
@@ -87,13 +95,16 @@ template <class F> void bench_textbook_step(benchmark::State& state) {
     const auto out = loop.step_at(in[0], in[1], in[2], in[3], in[4], in[5], in[6], in[7]);
     benchmark::DoNotOptimize(out);
   }
+  dqfx_bench::record_baseline(std::string{"current_loop/textbook_"} + (sizeof(F) == 4 ? "float" : "double"),
+                              timer.ns_per_call(state));
 }
 
 }  // namespace
 
+// The baselines first: their times are the ratios' denominators.
+BENCHMARK_TEMPLATE(bench_textbook_step, float)->Name("current_loop/textbook_float");
+BENCHMARK_TEMPLATE(bench_textbook_step, double)->Name("current_loop/textbook_double");
 BENCHMARK_TEMPLATE(bench_dqfx_step, dqfx::q15)->Name("current_loop/q15");
 BENCHMARK_TEMPLATE(bench_dqfx_step, dqfx::q31)->Name("current_loop/q31");
 BENCHMARK_TEMPLATE(bench_dqfx_step, float)->Name("current_loop/float");
 BENCHMARK_TEMPLATE(bench_dqfx_step, double)->Name("current_loop/double");
-BENCHMARK_TEMPLATE(bench_textbook_step, float)->Name("current_loop/textbook_float");
-BENCHMARK_TEMPLATE(bench_textbook_step, double)->Name("current_loop/textbook_double");

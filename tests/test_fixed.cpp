@@ -216,3 +216,28 @@ TEST_CASE("saturation checking is off, and absent, in normal builds") {
   // fallback found by the same unqualified lookup is chosen only if dqfx has none.
   static_assert(std::is_same_v<saturation_probe::events_type, saturation_probe::absent>);
 }
+
+TEST_CASE("saturate_signed and saturate_unsigned: the exact clamp, at every width used, in and out of range") {
+  // On cores with __ARM_FEATURE_SAT these are SSAT/USAT; the host runs the portable
+  // definition, and the Cortex-M golden vectors (bench/target) prove that both give the
+  // same q15 results. The reference is the clamp itself in 128-bit integers.
+  std::vector<std::int32_t> values = {std::numeric_limits<std::int32_t>::min(), std::numeric_limits<std::int32_t>::max()};
+  for (int k = 0; k < 31; ++k) {
+    const std::int32_t p = std::int32_t{1} << k;
+    for (std::int32_t v : {p - 1, p, p + 1, -p - 1, -p, -p + 1}) values.push_back(v);
+  }
+  std::mt19937 random{12};
+  for (int i = 0; i < 200000; ++i) values.push_back(static_cast<std::int32_t>(random()));
+  int wrong = 0;
+  for (std::int32_t v : values) {
+    const int128 x = v;
+    wrong += int{dqfx::detail::saturate_signed<16>(v) != dqfx_ref::clamp_to<std::int16_t>(x)};
+    wrong += int{dqfx::detail::saturate_signed<32>(v) != v};
+    wrong += int{dqfx::detail::saturate_signed<30>(v) != (x > (1 << 29) - 1 ? (1 << 29) - 1 : (x < -(1 << 29) ? -(1 << 29) : v))};
+    wrong += int{dqfx::detail::saturate_unsigned<15>(v) != (v > 32767 ? 32767 : (v < 0 ? 0 : v))};
+    wrong += int{dqfx::detail::saturate_unsigned<16>(v) != (v > 65535 ? 65535 : (v < 0 ? 0 : v))};
+  }
+  CHECK(wrong == 0);
+  static_assert(dqfx::detail::saturate_signed<16>(40000) == 32767 && dqfx::detail::saturate_signed<16>(-40000) == -32768);
+  static_assert(dqfx::detail::saturate_unsigned<15>(-1) == 0 && dqfx::detail::saturate_unsigned<15>(32768) == 32767);
+}

@@ -119,6 +119,13 @@ TEST_CASE("sincos_of: the q15 table samples are correctly rounded") {
     const long double expected = std::min(std::round(v), 65534.0L);
     REQUIRE(dqfx::detail::quarter_sine_table[i] == static_cast<std::uint16_t>(expected));
   }
+  // The packed form the kernel reads: (t[i] + 1) * 2^16 + (t[i+1] - t[i]), both fields in range.
+  for (std::size_t i = 0; i < dqfx::detail::quarter_sine_steps.size(); ++i) {
+    const std::uint32_t lo = dqfx::detail::quarter_sine_table[i], hi = dqfx::detail::quarter_sine_table[i + 1];
+    REQUIRE(hi >= lo);
+    REQUIRE(hi - lo < 65536u);
+    REQUIRE(dqfx::detail::quarter_sine_steps[i] == (lo + 1) * 65536u + (hi - lo));
+  }
 }
 
 TEST_CASE("reference trigonometry agrees with MPFR (correctly rounded)") {

@@ -21,6 +21,7 @@
 #include <cstdint>
 #include <new>
 #include <type_traits>
+#include <utility>
 
 #include "dqfx/angle.hpp"
 #include "dqfx/current_loop.hpp"
@@ -43,6 +44,12 @@
 #else
 #define DQFX_TARGET_OPAQUE __attribute__((noinline))
 #endif
+// The timed wrapper inlines everything the kernel calls (as a firmware's small interrupt
+// translation unit would let the compiler do), so that a kernel's count does not depend
+// on how many other kernels this one large translation unit holds: GCC's inliner stops
+// at a growth limit of the whole unit, and a kernel added to the registry used to move
+// the figures of others by a call or two.
+#define DQFX_TARGET_WHOLE __attribute__((flatten))
 
 namespace dqfx_target {
 
@@ -333,6 +340,129 @@ struct current_step {
   static constexpr role kind = role::step;
 };
 
+// The step split into its phases, for the report's phase table: each phase timed alone,
+// on the inputs `current_step` draws, with what the earlier phases made computed while
+// the inputs are filled. The phases' sum is near, not equal to, the whole step (each
+// wrapper has its own loads, stores and call). q15 and float only: more call sites of the
+// regulator's steps change GCC's inlining of q31's pi_regulator::step (timed above).
+using phase_types = type_list<q15, float>;
+
+struct step_phase_sincos : current_step {
+  static constexpr const char* name = "step.1:sincos";
+  using types = phase_types;
+  static constexpr role kind = role::part;
+  template <class T> using output = dqfx::sincos<T>;
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::sincos_of<T>(in.rotor);
+  }
+};
+
+struct step_phase_frames {
+  static constexpr const char* name = "step.2:clarke+park";
+  using types = phase_types;
+  template <class T> struct input { dqfx::phases<T> current; dqfx::sincos<T> rotor; };
+  template <class T> using output = dqfx::rotating<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    const current_step::input<T> s = current_step::make<T>(r);
+    return {s.current, dqfx::sincos_of<T>(s.rotor)};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    return dqfx::park(dqfx::clarke(in.current), in.rotor);
+  }
+};
+
+/// The two regulators and the motor's feed-forward constants, as the loop holds them.
+template <class T> struct step_regulators {
+  using access = dqfx::detail::pi_internals;
+  dqfx::pi_regulator<T> d, q;
+  dqfx::gain<T> ld = dqfx::gain<T>::from_double(current_step::parameters.ld);
+  dqfx::gain<T> lq = dqfx::gain<T>::from_double(current_step::parameters.lq);
+  dqfx::gain<T> flux = dqfx::gain<T>::from_double(current_step::parameters.flux);
+  /// The proposals of both regulators with the feed-forward (phase 3).
+  [[gnu::always_inline]] std::pair<dqfx::pi_proposal<T>, dqfx::pi_proposal<T>> propose(
+      dqfx::rotating<T> current, T w, dqfx::rotating<T> setpoint) const noexcept {
+    const T feed_d = -((w * current.q) * lq);
+    const T feed_q = (w * current.d) * ld + w * flux;
+    return {access::propose(d, setpoint.d, current.d, feed_d), access::propose(q, setpoint.q, current.q, feed_q)};
+  }
+  static step_regulators of(const current_step::input<T>& s) noexcept {
+    return {s.loop.d_regulator(), s.loop.q_regulator()};
+  }
+};
+
+struct step_phase_regulators {
+  static constexpr const char* name = "step.3:feed-forward+PI";
+  using types = phase_types;
+  template <class T> struct input {
+    step_regulators<T> regulators;
+    dqfx::rotating<T> current, setpoint;
+    T speed, bus;
+  };
+  template <class T> using output = dqfx::rotating<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    const current_step::input<T> s = current_step::make<T>(r);
+    return {step_regulators<T>::of(s), dqfx::park(dqfx::clarke(s.current), dqfx::sincos_of<T>(s.rotor)), s.setpoint,
+            s.speed, s.bus};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    const auto p = in.regulators.propose(in.current, in.speed, in.setpoint);
+    return {p.first.output, p.second.output};
+  }
+};
+
+struct step_phase_limit {
+  static constexpr const char* name = "step.4:limit+anti-windup";
+  using types = phase_types;
+  template <class T> struct input {
+    step_regulators<T> regulators;
+    dqfx::pi_proposal<T> d, q;
+    T radius;
+  };
+  template <class T> using output = dqfx::rotating<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    const step_phase_regulators::input<T> s = step_phase_regulators::make<T>(r);
+    const auto p = s.regulators.propose(s.current, s.speed, s.setpoint);
+    return {s.regulators, p.first, p.second, s.bus * dqfx::gain<T>::from_double(0.57735026918962576451)};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(input<T>& in) noexcept {
+    using access = dqfx::detail::pi_internals;
+    using recipe = dqfx::detail::loop_recipe<T>;
+    const T r = in.radius, ud = in.d.output, uq = in.q.output;
+    const T vd = ud > r ? r : (ud < -r ? -r : ud);
+    const T vq = recipe::template limit<false>(r, vd, uq);
+    const auto xd = access::next_integral(in.regulators.d, in.d, vd);
+    const auto xq = access::next_integral(in.regulators.q, in.q, vq);
+    if (recipe::finite(in.d.sum, in.q.sum, xd, xq)) {
+      access::store(in.regulators.d, xd);
+      access::store(in.regulators.q, xq);
+    }
+    return {vd, vq};
+  }
+};
+
+struct step_phase_modulation {
+  static constexpr const char* name = "step.5:inverse_park+svm(bus)";
+  using types = phase_types;
+  template <class T> struct input {
+    dqfx::rotating<T> voltage;
+    dqfx::sincos<T> rotor;
+    T bus;
+  };
+  template <class T> using output = dqfx::phases<T>;
+  template <class T> static input<T> make(random_bits& r) noexcept {
+    current_step::input<T> s = current_step::make<T>(r);
+    const dqfx::sincos<T> rotor = dqfx::sincos_of<T>(s.rotor);
+    const auto out = s.loop.step({s.current, rotor, s.speed, s.setpoint, s.bus});
+    return {out.voltage, rotor, s.bus};
+  }
+  template <class T> [[gnu::always_inline]] static output<T> run(const input<T>& in) noexcept {
+    namespace d = dqfx::detail;
+    return d::modulate<dqfx::modulation::centred, dqfx::overmodulation::keep_angle, false>(
+               dqfx::inverse_park(in.voltage, in.rotor), dqfx::extended<T>{in.bus})
+        .duty;
+  }
+};
+
 // The comparison figure.
 
 struct textbook_current_step {
@@ -483,7 +613,8 @@ struct observer_update {
 
 /// Every kernel the harness times, in report order.
 template <class... K> struct kernel_list {};
-using timed_kernels = kernel_list<textbook_current_step, current_step, multiply, gain_multiply, sum_of_products,
+using timed_kernels = kernel_list<textbook_current_step, current_step, step_phase_sincos, step_phase_frames,
+                                  step_phase_regulators, step_phase_limit, step_phase_modulation, multiply, gain_multiply, sum_of_products,
                                   angle_advance, sine_cosine, vector_angle, vector_magnitude,
                                   clarke_transform, park_transform, inverse_park_transform,
                                   space_vector_modulation, svm_with_bus, pi_step, pll_update, encoder_update, hall_update,
@@ -651,7 +782,7 @@ template <class T> constexpr const char* type_name() noexcept {
 /// The timed call: reads one input (and updates it if the kernel has state), runs the
 /// kernel (inlined here), writes one output.
 template <class K, class T>
-DQFX_TARGET_OPAQUE void call(void* input, void* output) {
+DQFX_TARGET_OPAQUE DQFX_TARGET_WHOLE void call(void* input, void* output) {
   using in_t = typename K::template input<T>;
   using out_t = typename K::template output<T>;
   ::new (output) out_t(K::template run<T>(*static_cast<in_t*>(input)));

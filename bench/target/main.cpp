@@ -2,9 +2,9 @@
 // The Cortex-M harness: times every kernel of kernels.hpp over `samples` inputs and
 // prints one line per kernel and type (see report.cmake for the format):
 //   kernel <name> <type> <mean> <worst> <repeats> <wrapper address> <output digest> <role>
-// Each call goes through an opaque wrapper, and the same loop around an empty wrapper is
-// subtracted, so a figure is what one call costs, including loading its operands and
-// storing its result. A kernel with state runs on from the state its previous call left
+// Each call goes through an opaque wrapper (flattened: the kernel inlined whole), and the
+// same loop around an empty wrapper is subtracted, so a figure is what one call costs,
+// including loading its operands and storing its result. A kernel with state runs on from the state its previous call left
 // (repeated calls on one input are consecutive periods).
 #include <cstdint>
 #include <cstring>

@@ -318,8 +318,11 @@ constexpr T scale(exact_sum<T> n, precise_gain<T> g) noexcept {
   if constexpr (is_fixed_v<T>) {
     const auto v = n.value();
     const std::uint64_t r = detail::multiply_round(detail::magnitude_of(v), g.mantissa(), g.shift());
-    // r < 2^61, and the saturating conversion clamps anything beyond T's range.
-    const auto s = static_cast<std::int64_t>(r);
+    // r < 2^61, and the saturating conversion clamps anything beyond T's range. q15
+    // (|v| < 2^30 for weights below 2^15, g < 2): r < 2^31, so the signed value and its
+    // clamp stay in 32 bits.
+    using signed_result = std::conditional_t<std::is_same_v<T, q15>, std::int32_t, std::int64_t>;
+    const auto s = static_cast<signed_result>(r);
     return T::saturated(v < 0 ? -s : s);
   } else {
     return n.value() * g.value();

@@ -21,6 +21,32 @@ namespace detail {
 static_assert((-5 >> 1) == -3 && (std::int64_t{-5} >> 1) == -3,
               "dqfx needs arithmetic right shift of negative integers");
 
+/// v clamped into [-2^(Bits-1), 2^(Bits-1) - 1]: one SSAT on cores with the saturation
+/// instructions (Armv7-M and up; GCC emits it for a lone clamp but not inside a large
+/// kernel), the same value from two comparisons everywhere else.
+template <int Bits>
+constexpr std::int32_t saturate_signed(std::int32_t v) noexcept {
+  static_assert(Bits >= 1 && Bits <= 32, "SSAT takes 1 to 32 bits");
+#if defined(__ARM_FEATURE_SAT)
+  // The builtin behind ACLE's __ssat (arm_acle.h wraps it in a statement expression,
+  // which -Wpedantic refuses); GCC declares its result unsigned, the bits are signed.
+  if (!__builtin_is_constant_evaluated()) return static_cast<std::int32_t>(__builtin_arm_ssat(v, Bits));
+#endif
+  constexpr auto hi = static_cast<std::int32_t>((std::int64_t{1} << (Bits - 1)) - 1);
+  return v > hi ? hi : (v < -hi - 1 ? -hi - 1 : v);
+}
+
+/// v clamped into [0, 2^Bits - 1] (Bits <= 31): one USAT where the core has it, two
+/// comparisons elsewhere.
+template <int Bits>
+constexpr std::int32_t saturate_unsigned(std::int32_t v) noexcept {
+  static_assert(Bits >= 0 && Bits <= 31, "USAT into a non-negative int32_t takes 0 to 31 bits");
+#if defined(__ARM_FEATURE_SAT)
+  if (!__builtin_is_constant_evaluated()) return static_cast<std::int32_t>(__builtin_arm_usat(v, Bits));
+#endif
+  return v < 0 ? 0 : (v >> Bits != 0 ? static_cast<std::int32_t>((std::int64_t{1} << Bits) - 1) : v);
+}
+
 template <class Raw> struct wide_of;
 template <> struct wide_of<std::int16_t> { using type = std::int32_t; };
 template <> struct wide_of<std::int32_t> { using type = std::int64_t; };
@@ -28,6 +54,10 @@ template <> struct wide_of<std::int32_t> { using type = std::int64_t; };
 /// Clamp a wide value into Raw's range, reporting a saturation event if it clamps.
 template <class Raw, class Wide>
 constexpr Raw saturate_to(Wide v) noexcept {
+  // Nothing to report: q15 from 32 bits is one SSAT where the core has it.
+  if constexpr (!saturation_checking && std::is_same_v<Raw, std::int16_t> && std::is_same_v<Wide, std::int32_t>) {
+    return static_cast<Raw>(saturate_signed<16>(v));
+  }
   constexpr Wide hi = std::numeric_limits<Raw>::max();
   constexpr Wide lo = std::numeric_limits<Raw>::min();
   if (v > hi) { note_saturation(); return static_cast<Raw>(hi); }
@@ -54,7 +84,10 @@ constexpr std::int64_t product_round_shift(std::int32_t a, std::int32_t b, int s
 /// variable amount: the high word of (d * 2^15) * m is floor(d*m / 2^17).
 constexpr std::int32_t rounded_product16_wide(std::int32_t d, std::int32_t m, int shift) noexcept {
   const auto top = static_cast<std::int32_t>((static_cast<std::int64_t>(d * 32768) * m) >> 32);
-  return (top + (1 << (shift - 18))) >> (shift - 17);
+  // The same value two ways: a known shift folds the rounding constant (two
+  // instructions); a run-time one (a regulator's gain) is cheaper without building it.
+  if (__builtin_constant_p(shift) != 0) return (top + (1 << (shift - 18))) >> (shift - 17);
+  return round_shift(top, shift - 17);
 }
 
 /// The same value from three 16x16 products, for cores without a 32x32->64 multiply.
@@ -64,7 +97,8 @@ constexpr std::int32_t rounded_product16_narrow(std::int32_t d, std::int32_t m, 
   const std::int32_t high = m >> 16, mid = (m >> 8) & 0xFF, low = m & 0xFF;
   const std::int32_t u = d * mid + ((d * low) >> 8);
   const std::int32_t v = d * high + (u >> 8);
-  return (v + (1 << (shift - 17))) >> (shift - 16);
+  if (__builtin_constant_p(shift) != 0) return (v + (1 << (shift - 17))) >> (shift - 16);
+  return round_shift(v, shift - 16);
 }
 
 /// The rounded 16x32 product: ARMv6-M has no 32x32->64 multiply (a library call there).

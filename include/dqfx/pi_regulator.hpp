@@ -170,8 +170,15 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
     }
     return product(e, g);
   }
-  /// Sums of two terms within the headroom: no overflow before the clamp.
-  static constexpr state add(state a, state b) noexcept { return clamp(a + b); }
+  /// Sums of two terms within the headroom: no overflow before the clamp, which stays in
+  /// the state's own width (32-bit compares for q15).
+  static constexpr state add(state a, state b) noexcept {
+    if constexpr (sizeof(state) == 4) {
+      return clamp_state(a + b);
+    } else {
+      return clamp(a + b);
+    }
+  }
   /// sum - applied, or zero when applied is the unlimited output rounded to T (the
   /// rounding residual is not a limit).
   static constexpr state excess(state sum, T unlimited, T applied) noexcept {
@@ -181,6 +188,11 @@ template <class T> struct pi_arith<T, std::enable_if_t<is_fixed_v<T>>> {
   static constexpr bool finite(state) noexcept { return true; }
 
  private:
+  static constexpr state clamp_state(state v) noexcept {
+    if (v > headroom) { note_saturation(); return headroom; }
+    if (v < -headroom) { note_saturation(); return -headroom; }
+    return v;
+  }
   static constexpr state clamp(std::int64_t v) noexcept {
     if (v > headroom) { note_saturation(); return headroom; }
     if (v < -headroom) { note_saturation(); return -headroom; }

@@ -48,21 +48,33 @@ constexpr std::array<std::uint16_t, 258> make_quarter_sine_table() noexcept {
 }
 inline constexpr std::array<std::uint16_t, 258> quarter_sine_table = make_quarter_sine_table();
 
+/// The table as the kernel reads it, one 32-bit word per interval i: (t[i] + 1) * 2^16 +
+/// (t[i+1] - t[i]). One load per interpolation instead of two, with the rounding half
+/// (2^16 at the 2^-32 scale) already added. t[i] <= 65534 and t never decreases (the
+/// sine rises over the quarter, and the cap keeps that), so both fields fit.
+constexpr std::array<std::uint32_t, 257> make_quarter_sine_steps() noexcept {
+  std::array<std::uint32_t, 257> s{};
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    const std::uint32_t lo = quarter_sine_table[i], hi = quarter_sine_table[i + 1];
+    s[i] = hi >= lo ? ((lo + 1) << 16) + (hi - lo) : 0;  // 0: caught by the test below
+  }
+  return s;
+}
+inline constexpr std::array<std::uint32_t, 257> quarter_sine_steps = make_quarter_sine_steps();
+static_assert(quarter_sine_steps[256] == (std::uint32_t{65535} << 16), "the last interval is flat at the cap");
+
 /// Sine and cosine of the angle within the first quadrant, `pos` in [0, 2^30).
 template <class T> struct quadrant_sincos;
 
 template <> struct quadrant_sincos<q15> {
   /// Linear interpolation of the table at a 30-bit quadrant position (0..2^30 inclusive).
   static constexpr std::int16_t sine(std::uint32_t pos) noexcept {
-    const std::uint32_t index = pos >> 22;
+    const std::uint32_t step = quarter_sine_steps[pos >> 22];
     const std::uint32_t fraction = (pos >> 6) & 0xFFFFu;
-    const std::uint32_t lo = quarter_sine_table[index];
-    const std::uint32_t hi = quarter_sine_table[index + 1];
-    // Exact in 32 bits: lo*2^16 + (hi-lo)*fraction <= hi*2^16 < 2^32.
-    const std::uint32_t v = (lo << 16) + (hi - lo) * fraction;
-    // 2^-32 -> 2^-15, to nearest. v < 65534 * 2^16, so adding the half cannot wrap and
-    // the result is at most 32767.
-    return static_cast<std::int16_t>((v + 0x10000u) >> 17);
+    // lo*2^16 + (hi-lo)*fraction + 2^16, exactly: at most hi*2^16 + 2^16 <= 65535 * 2^16.
+    const std::uint32_t v = (step & 0xFFFF0000u) + (step & 0xFFFFu) * fraction;
+    // 2^-32 -> 2^-15, to nearest (the half is in v already); at most 32767.
+    return static_cast<std::int16_t>(v >> 17);
   }
   static constexpr sincos<q15> eval(std::uint32_t pos) noexcept {
     return {q15::from_raw(sine(pos)), q15::from_raw(sine((1u << 30) - pos))};
@@ -148,6 +160,17 @@ template <class F> struct floating_quadrant_sincos {
 template <> struct quadrant_sincos<float> : floating_quadrant_sincos<float> {};
 template <> struct quadrant_sincos<double> : floating_quadrant_sincos<double> {};
 
+/// -x for x within [-max(), max()], as every sine and cosine here is: exact, so there is
+/// no saturation to check (one instruction for q15/q31 instead of a negate and a clamp).
+template <class T>
+constexpr T negate_within_range(T x) noexcept {
+  if constexpr (is_fixed_v<T>) {
+    return T::from_raw(static_cast<typename T::raw_type>(-x.raw()));
+  } else {
+    return -x;
+  }
+}
+
 }  // namespace detail
 
 /// Sine and cosine of `a`, computed together (one reduction, shared by Park and inverse
@@ -161,11 +184,11 @@ constexpr sincos<T> sincos_of(angle a) noexcept {
   if (quadrant & 1u) {
     const T s = r.sin;
     r.sin = r.cos;
-    r.cos = -s;
+    r.cos = detail::negate_within_range(s);
   }
   if (quadrant & 2u) {
-    r.sin = -r.sin;
-    r.cos = -r.cos;
+    r.sin = detail::negate_within_range(r.sin);
+    r.cos = detail::negate_within_range(r.cos);
   }
   return r;
 }

@@ -191,10 +191,52 @@ template <> class modulation_divisor<q15> {
   std::uint32_t reciprocal_ = 0;
 };
 
+/// q15, centred, angle kept: the values of the general path below, in plain 32-bit
+/// integers at the extended scale 2^-28. Every intermediate lies within +/-4 (references
+/// within 1.37, their spread within 2.74), far inside the extended range [-8, 8), so the
+/// general path's overflow checks never fire and are left out.
+template <bool PerBus>
+constexpr modulation_result<q15> modulate_centred_q15(stationary<q15> command, std::int32_t bus) noexcept {
+  using E = extended<q15>;
+  constexpr precise_gain<q15> sqrt3 = precise_gain<q15>::from_double(1.73205080756887729353);
+  constexpr int product_shift = sqrt3.shift() - E::guard_bits;
+  static_assert(product_shift >= 1 && product_shift < 32, "sqrt(3) times a q15 value in one 32x32->64 product");
+  const std::int32_t beta = command.beta.raw();
+  const std::uint32_t magnitude = magnitude_of(beta);
+  // exact_sum * precise_gain: the product truncated toward zero.
+  const auto p = static_cast<std::int32_t>((std::uint64_t{magnitude} * sqrt3.mantissa()) >> product_shift);
+  const std::int32_t s = beta < 0 ? -p : p;
+  const std::int32_t v0 = command.alpha.raw() * (1 << E::guard_bits);
+  const std::int32_t v1 = (s - v0) >> 1, v2 = (-(s + v0)) >> 1;
+  const std::uint8_t sector = phase_orders[above(v0, v1, v2) * 4 + above(v1, v2, v0) * 2 + above(v2, v0, v1)].sector;
+  const std::int32_t top = v0 > v1 ? (v0 > v2 ? v0 : v2) : (v1 > v2 ? v1 : v2);
+  const std::int32_t bottom = v0 < v1 ? (v0 < v2 ? v0 : v2) : (v1 < v2 ? v1 : v2);
+  const std::int32_t spread = top - bottom, offset = (top + bottom) >> 1;
+  const bool limited = spread > bus;
+  std::int32_t x0 = v0 - offset, x1 = v1 - offset, x2 = v2 - offset;
+  if (!PerBus || limited) {
+    const modulation_divisor<q15> over{E::from_raw(limited ? spread : bus)};
+    x0 = over(E::from_raw(x0)).raw();
+    x1 = over(E::from_raw(x1)).raw();
+    x2 = over(E::from_raw(x2)).raw();
+  }
+  // Rounded, then clamped into [0, max()]: the same as clamping first (the rounding is
+  // monotonic and max() is a whole q15 value), and one USAT.
+  constexpr std::int32_t half = std::int32_t{1} << (E::fraction_bits - 1);
+  auto duty = [](std::int32_t x) {
+    return q15::from_raw(static_cast<std::int16_t>(saturate_unsigned<15>(round_shift(half + x, E::guard_bits))));
+  };
+  return {{duty(x0), duty(x1), duty(x2)}, sector, limited, false};
+}
+
 /// The modulation of a command relative to `bus` (positive); `PerBus`: bus is one and
 /// no division is needed in the linear range.
 template <class Scheme, class Limit, bool PerBus, class T>
 constexpr modulation_result<T> modulate(stationary<T> command, extended<T> bus) noexcept {
+  if constexpr (std::is_same_v<T, q15> && std::is_same_v<Scheme, modulation::centred> &&
+                std::is_same_v<Limit, overmodulation::keep_angle>) {
+    return modulate_centred_q15<PerBus>(command, bus.raw());
+  }
   using E = extended<T>;
   constexpr precise_gain<T> sqrt3 = precise_gain<T>::from_double(1.73205080756887729353);
   constexpr bool keep_angle = std::is_same_v<Limit, overmodulation::keep_angle>;
