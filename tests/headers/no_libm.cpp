@@ -54,11 +54,12 @@ void exercise() {
   output = dqfx::magnitude(v).raw();
 #endif
 #if DQFX_HAVE_DRIVE
-  // The whole drive (speed loop, monitors, sequence, current loop) on an invented motor.
-  constexpr dqfx::per_unit_base base{40.0, 60.0, 2 * 3.14159265358979 * 800, 4};
+  // The whole drive (speed loop, monitors, sequence, current loop) on an invented motor
+  // (bases chosen so that every per-unit quantity is below 1, as the design checks demand).
+  constexpr dqfx::per_unit_base base{40.0, 100.0, 2 * 3.14159265358979 * 800, 4};
   constexpr dqfx::drive_parameters parameters = [] {
     constexpr dqfx::pm_motor_data motor{0.1, 120e-6, 420e-6, 0.006};
-    constexpr dqfx::per_unit_base bases{40.0, 60.0, 2 * 3.14159265358979 * 800, 4};
+    constexpr dqfx::per_unit_base bases{40.0, 100.0, 2 * 3.14159265358979 * 800, 4};
     dqfx::drive_parameters p{};
     p.current = dqfx::design_current_loop(bases, motor, 5000.0, 1 / 16e3);
     dqfx::speed_loop_data s{};
