@@ -32,6 +32,8 @@ dqfx::drive_parameters drive_design(const test_drive& d, dqfx::safe_output safe)
   const double limit = d.current_limit / d.base.base_current;
   dqfx::drive_parameters p{};
   p.current = dqfx::design_current_loop(d.base, motor_data(d), d.current_bandwidth, period);
+  const dqfx::design_check fits = p.current.check();
+  REQUIRE_MESSAGE(fits.ok(), d.label, ": ", (fits.ok() ? "" : fits.quantity), " = ", fits.value);
   p.speed = speed_design(d, 0.0);
   p.torque = dqfx::design_torque_setpoint(d.base, motor_data(d), d.current_limit);
   dqfx::protection_parameters& m = p.protection;
